@@ -1,0 +1,176 @@
+"""dsplit command line: click commands only (parse, call the API, print, exit codes).
+
+Exit codes: 0 success; 2 bad input (one line naming the field); 3 a calculation
+that did not converge or could not be verified.  Heavy modules (numpy, ASE,
+PySCF) are imported inside the commands so that ``dsplit --help`` starts fast.
+"""
+
+from __future__ import annotations
+
+import functools
+import sys
+
+import click
+
+
+def _fail(message: str, code: int) -> None:
+    click.echo(f"dsplit: error: {message}", err=True)
+    sys.exit(code)
+
+
+def handles_errors(func):
+    """Turn InputError into one line + exit 2, CalculationError into exit 3."""
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        from dsplit.errors import CalculationError, InputError
+
+        try:
+            return func(*args, **kwargs)
+        except InputError as exc:
+            _fail(str(exc), exc.exit_code)
+        except CalculationError as exc:
+            _fail(str(exc), exc.exit_code)
+
+    return wrapper
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="dsplit")
+def main() -> None:
+    """d-orbital splitting of transition-metal complexes.
+
+    Build an ideal complex, compute it with PySCF (CPU), label its orbitals in
+    the full point group and hold the splitting against ligand-field theory.
+    """
+
+
+@main.command("ligands")
+@click.option("--json", "as_json", is_flag=True, help="Print the library as JSON.")
+def ligands_cmd(as_json: bool) -> None:
+    """List the ligand library (names, formulas, donors, charges, roles)."""
+    from dsplit.chem.ligands import library
+
+    libs = list(library().values())
+    if as_json:
+        import json
+
+        click.echo(json.dumps([{"key": lg.key, "formula": lg.formula, "aliases": list(lg.aliases),
+                                "donor": lg.donor, "charge": lg.charge, "role": lg.role,
+                                "atoms": list(lg.atoms), "geometry_source": lg.geometry_source}
+                               for lg in libs], indent=2, ensure_ascii=False))
+        return
+    from rich.console import Console
+    from rich.table import Table
+
+    table = Table(title="dsplit ligand library")
+    for col in ("name", "formula", "also", "donor", "charge", "role", "geometry from"):
+        table.add_column(col)
+    for lg in libs:
+        table.add_row(lg.key, lg.formula, ", ".join(lg.aliases), lg.donor, f"{lg.charge:+d}" if lg.charge else "0",
+                      lg.role, lg.geometry_source)
+    Console().print(table)
+
+
+def _load_request(spec_path: str | None, overrides: dict):
+    """A Spec from a file and/or command-line flags (flags win)."""
+    from dsplit.errors import InputError
+    from dsplit.spec import load_spec, parse_toml_text, spec_from_dict
+
+    if spec_path is None:
+        data: dict = {"complex": {}}
+    else:
+        load_spec(spec_path)  # full validation of the file itself first
+        with open(spec_path, encoding="utf-8") as fh:
+            data = parse_toml_text(fh.read(), spec_path)
+    cx = data.setdefault("complex", {})
+    for key, value in overrides.items():
+        if value is not None:
+            cx[key] = value
+    if spec_path is None and not cx:
+        raise InputError("SPEC", "give a spec file or --metal/--geometry/--ligands flags")
+    from pathlib import Path
+
+    default = Path(spec_path).stem if spec_path else "complex"
+    return spec_from_dict(data, default_name=default)
+
+
+def _parse_ligand_flag(text: str | None) -> dict | None:
+    from dsplit.errors import InputError
+
+    if text is None:
+        return None
+    out: dict[str, int] = {}
+    for part in text.split(","):
+        key, sep, count = part.strip().partition("=")
+        if not sep or not count.strip().isdigit():
+            raise InputError("--ligands", f"cannot read '{part}'; write e.g. aqua=6 or chlorido=4,ammine=2")
+        out[key.strip()] = int(count)
+    return out
+
+
+def complex_options(func):
+    """Flags shared by every command that builds a complex."""
+    opts = [
+        click.option("--metal", help="Metal symbol, e.g. Fe."),
+        click.option("--oxidation-state", type=int, help="Metal oxidation state."),
+        click.option("--geometry", help="octahedral, tetrahedral, square-planar, trigonal-bipyramidal, "
+                                        "square-pyramidal, trigonal-prismatic or linear."),
+        click.option("--ligands", "ligands_text", help="Ligand counts, e.g. aqua=6 or chlorido=4,ammine=2."),
+        click.option("--isomer", help="cis, trans, fac, mer, axial, equatorial, … (see --isomers)."),
+        click.option("--bond-length", type=float, help="Metal–ligand distance in Å (all ligands)."),
+        click.option("--multiplicity", type=int, help="Spin multiplicity 2S+1."),
+    ]
+    for opt in reversed(opts):
+        func = opt(func)
+    return func
+
+
+def _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity) -> dict:
+    return {"metal": metal, "oxidation_state": oxidation_state, "geometry": geometry,
+            "ligands": _parse_ligand_flag(ligands_text), "isomer": isomer, "bond_length": bond_length,
+            "multiplicity": multiplicity}
+
+
+@main.command("build")
+@click.argument("spec", required=False, type=click.Path(dir_okay=False))
+@complex_options
+@click.option("-o", "--output", type=click.Path(dir_okay=False),
+              help="Geometry file; format from the extension (any ase.io format). Default: NAME.xyz (extended XYZ).")
+@click.option("--isomers", "list_isomers", is_flag=True, help="List the isomers of the ligand set and stop.")
+@click.option("--json", "as_json", is_flag=True, help="Print a machine-readable summary.")
+@handles_errors
+def build_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
+              output, list_isomers, as_json) -> None:
+    """Build an ideal complex from SPEC (TOML) and/or flags; write its geometry."""
+    from dsplit.build_api import build_summary, isomer_table, write_geometry
+    from dsplit.geometry.build import build_complex
+
+    s = _load_request(spec, _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length,
+                                       multiplicity))
+    if list_isomers:
+        rows = isomer_table(s.complex)
+        if as_json:
+            import json
+
+            click.echo(json.dumps(rows, indent=2, ensure_ascii=False))
+        else:
+            for row in rows:
+                click.echo(f"{row['isomer']:<18} {row['exact_point_group']:<6} {' '.join(row['sites'])}")
+        return
+    cx = build_complex(s.complex)
+    path = write_geometry(cx, output or f"{s.name}.xyz")
+    summary = build_summary(cx)
+    summary["output"] = str(path)
+    if as_json:
+        import json
+
+        click.echo(json.dumps(summary, indent=2, ensure_ascii=False))
+    else:
+        from dsplit.build_api import print_summary
+
+        print_summary(summary)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

@@ -1,0 +1,201 @@
+"""Spec files: parse, validate, normalise; a stable content hash.
+
+A spec is TOML with three tables (all keys checked, unknown keys refused)::
+
+    name = "coating-sample-3"
+    [complex]     metal, oxidation_state | charge, geometry, ligands = {key = count},
+                  isomer, bond_length (Å, number or {ligand = Å}), multiplicity,
+                  configuration, apical_angle (°, square-pyramidal only)
+    [method]      theory, basis, solvent, density_fitting, open_shell, grid_level,
+                  max_cycles
+    [experiment]  measured_bands_cm1 = [...] or measured_bands_nm = [...], source
+
+Types and ranges are checked here; names that only PySCF can judge (basis,
+functional) are checked by the calculation stage before any SCF starts.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import re
+import sys
+from dataclasses import dataclass, field, asdict
+from pathlib import Path
+from typing import Any
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover
+    import tomli as tomllib
+
+from dsplit.errors import InputError
+from dsplit.geometry.build import ComplexRequest
+
+SCHEMA = "dsplit.spec/1"
+
+_COMPLEX_KEYS = {
+    "metal": str, "oxidation_state": int, "charge": int, "geometry": str, "ligands": dict,
+    "isomer": str, "bond_length": (float, int, dict), "multiplicity": int,
+    "configuration": str, "apical_angle": (float, int),
+}
+_METHOD_KEYS = {
+    "theory": str, "basis": str, "solvent": (str, float, int), "density_fitting": bool,
+    "open_shell": str, "grid_level": int, "max_cycles": int,
+}
+_EXPERIMENT_KEYS = {"measured_bands_cm1": list, "measured_bands_nm": list, "source": str}
+_TOP_KEYS = {"name", "complex", "method", "experiment"}
+OPEN_SHELL_CHOICES = ("unrestricted", "restricted")
+_SLUG = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$")
+
+
+@dataclass(frozen=True)
+class MethodSpec:
+    theory: str = "B3LYP"
+    basis: str = "def2-SVP"
+    solvent: str | float | None = None  # None: the default rule (PCM water when |charge| ≥ 2)
+    density_fitting: bool = True
+    open_shell: str = "unrestricted"
+    grid_level: int = 3
+    max_cycles: int = 100
+
+
+@dataclass(frozen=True)
+class ExperimentSpec:
+    measured_bands_cm1: tuple[float, ...] = ()
+    source: str = ""
+
+
+@dataclass(frozen=True)
+class Spec:
+    name: str
+    complex: ComplexRequest
+    method: MethodSpec = field(default_factory=MethodSpec)
+    experiment: ExperimentSpec = field(default_factory=ExperimentSpec)
+
+    def normalised(self) -> dict[str, Any]:
+        """Plain dict with every default filled in, keys sorted (for hashing/archiving)."""
+        cx = {k: v for k, v in asdict(self.complex).items() if v is not None and k != "name"}
+        return {
+            "schema": SCHEMA,
+            "name": self.name,
+            "complex": cx,
+            "method": asdict(self.method),
+            "experiment": {"measured_bands_cm1": list(self.experiment.measured_bands_cm1),
+                           "source": self.experiment.source},
+        }
+
+    def content_hash(self) -> str:
+        """SHA-256 of the canonical JSON of the normalised spec (name excluded)."""
+        body = self.normalised()
+        body.pop("name")
+        text = json.dumps(body, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+        return hashlib.sha256(text.encode()).hexdigest()
+
+
+def _typename(t) -> str:
+    names = {str: "text", int: "whole number", float: "number", dict: "table", list: "list", bool: "true/false"}
+    if isinstance(t, tuple):
+        return " or ".join(dict.fromkeys(names[x] for x in t))
+    return names[t]
+
+
+def _check_table(table: Any, allowed: dict[str, Any], prefix: str) -> dict[str, Any]:
+    if not isinstance(table, dict):
+        raise InputError(prefix, "must be a TOML table")
+    for key, value in table.items():
+        if key not in allowed:
+            raise InputError(f"{prefix}.{key}", f"unknown key; allowed in [{prefix}]: {', '.join(allowed)}")
+        want = allowed[key]
+        types = want if isinstance(want, tuple) else (want,)
+        ok = isinstance(value, types) and not (isinstance(value, bool) and bool not in types)
+        if not ok:
+            raise InputError(f"{prefix}.{key}", f"expected {_typename(want)}, got {value!r}")
+    return table
+
+
+def slug_ok(name: str) -> bool:
+    """Names are slugs: letters, digits, '.', '_', '-'; no path separators, no '..'."""
+    return bool(_SLUG.match(name)) and ".." not in name
+
+
+def spec_from_dict(data: dict[str, Any], default_name: str = "complex") -> Spec:
+    """Validate a parsed TOML document and build a Spec (InputError on any bad field)."""
+    for key in data:
+        if key not in _TOP_KEYS:
+            raise InputError(key, f"unknown top-level key; allowed: name, [complex], [method], [experiment]")
+    name = data.get("name", default_name)
+    if not isinstance(name, str) or not slug_ok(name):
+        raise InputError("name", f"{name!r} is not a valid name; use letters, digits, '.', '_' or '-' "
+                                 "(no '/', no '..', at most 80 characters)")
+    if "complex" not in data:
+        raise InputError("complex", "missing [complex] table; give metal, oxidation_state, geometry, ligands")
+    cx = _check_table(data["complex"], _COMPLEX_KEYS, "complex")
+    for required in ("metal", "geometry", "ligands"):
+        if required not in cx:
+            raise InputError(f"complex.{required}", "is required")
+    for lig, n in cx["ligands"].items():
+        if isinstance(n, bool) or not isinstance(n, int) or n < 1:
+            raise InputError(f"complex.ligands.{lig}", f"count must be a whole number ≥ 1, got {n!r}")
+    bl = cx.get("bond_length")
+    if isinstance(bl, dict):
+        for lig, r in bl.items():
+            if isinstance(r, bool) or not isinstance(r, (int, float)):
+                raise InputError(f"complex.bond_length.{lig}", f"expected a distance in Å, got {r!r}")
+        bl = {k: float(v) for k, v in bl.items()}
+    elif bl is not None:
+        bl = float(bl)
+    request = ComplexRequest(
+        name=name, metal=cx["metal"], geometry=cx["geometry"], ligands=dict(cx["ligands"]),
+        oxidation_state=cx.get("oxidation_state"), charge=cx.get("charge"), isomer=cx.get("isomer"),
+        bond_length=bl, multiplicity=cx.get("multiplicity"), configuration=cx.get("configuration"),
+        apical_angle=float(cx["apical_angle"]) if "apical_angle" in cx else None,
+    )
+    if request.multiplicity is not None and request.multiplicity < 1:
+        raise InputError("complex.multiplicity", f"must be ≥ 1 (2S+1), got {request.multiplicity}")
+
+    md = _check_table(data.get("method", {}), _METHOD_KEYS, "method")
+    solvent = md.get("solvent")
+    if isinstance(solvent, (int, float)) and not isinstance(solvent, bool) and solvent < 1.0:
+        raise InputError("method.solvent", f"a dielectric constant must be ≥ 1, got {solvent}")
+    if md.get("open_shell", "unrestricted") not in OPEN_SHELL_CHOICES:
+        raise InputError("method.open_shell", f"allowed: {', '.join(OPEN_SHELL_CHOICES)}")
+    if not 0 <= md.get("grid_level", 3) <= 9:
+        raise InputError("method.grid_level", "allowed: 0–9 (PySCF grid levels)")
+    if md.get("max_cycles", 100) < 1:
+        raise InputError("method.max_cycles", "must be ≥ 1")
+    method = MethodSpec(**{**asdict(MethodSpec()), **md})
+    if isinstance(method.solvent, str):
+        method = MethodSpec(**{**asdict(method), "solvent": method.solvent.strip().lower()})
+
+    ex = _check_table(data.get("experiment", {}), _EXPERIMENT_KEYS, "experiment")
+    if "measured_bands_cm1" in ex and "measured_bands_nm" in ex:
+        raise InputError("experiment", "give measured_bands_cm1 or measured_bands_nm, not both")
+    bands: list[float] = []
+    for key in ("measured_bands_cm1", "measured_bands_nm"):
+        for v in ex.get(key, []):
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or v <= 0:
+                raise InputError(f"experiment.{key}", f"expected positive numbers, got {v!r}")
+            bands.append(float(v) if key.endswith("cm1") else 1.0e7 / float(v))  # nm → cm⁻¹: 10⁷/λ(nm), definition
+    experiment = ExperimentSpec(tuple(bands), ex.get("source", ""))
+    return Spec(name=name, complex=request, method=method, experiment=experiment)
+
+
+def parse_toml_text(text: str, source: str = "spec") -> dict[str, Any]:
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(source, f"malformed TOML ({exc}); fix the syntax") from None
+
+
+def load_spec(path: str | Path) -> Spec:
+    """Read and validate a spec file."""
+    p = Path(path)
+    if not p.is_file():
+        raise InputError("SPEC", f"no such file '{p}'; give the path of a .toml spec")
+    try:
+        text = p.read_text(encoding="utf-8")
+    except UnicodeDecodeError:
+        raise InputError("SPEC", f"'{p}' is not UTF-8 text; save the spec as UTF-8 TOML") from None
+    default = re.sub(r"[^A-Za-z0-9._-]", "-", p.stem) or "complex"
+    return spec_from_dict(parse_toml_text(text, str(p)), default_name=default)
