@@ -31,6 +31,7 @@ else:  # pragma: no cover
 
 from dsplit.errors import InputError
 from dsplit.geometry.build import ComplexRequest
+from dsplit.models.units import nm_to_cm1
 
 SCHEMA = "dsplit.spec/1"
 
@@ -176,7 +177,7 @@ def spec_from_dict(data: dict[str, Any], default_name: str = "complex") -> Spec:
         for v in ex.get(key, []):
             if isinstance(v, bool) or not isinstance(v, (int, float)) or v <= 0:
                 raise InputError(f"experiment.{key}", f"expected positive numbers, got {v!r}")
-            bands.append(float(v) if key.endswith("cm1") else 1.0e7 / float(v))  # nm → cm⁻¹: 10⁷/λ(nm), definition
+            bands.append(float(v) if key.endswith("cm1") else nm_to_cm1(float(v)))
     experiment = ExperimentSpec(tuple(bands), ex.get("source", ""))
     return Spec(name=name, complex=request, method=method, experiment=experiment)
 

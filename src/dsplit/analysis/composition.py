@@ -82,7 +82,7 @@ def _iao_fractions(mol: gto.Mole, mo_coeff: np.ndarray, mo_occ: np.ndarray,
                    minao: str) -> tuple[np.ndarray, list[AoLabel]]:
     """w_ia = |⟨a|φ_i⟩|² over orthonormal IAOs from the occupied orbitals."""
     s = mol.intor_symmetric("int1e_ovlp")
-    iaos = lo.iao.iao(mol, mo_coeff[:, :lo.iao.reference_mol(mol, minao).nao], minao=minao)
+    iaos = lo.iao.iao(mol, mo_coeff[:, mo_occ > 0], minao=minao)
     iaos = lo.vec_lowdin(iaos, s)
     proj = mo_coeff.T @ s @ iaos
     labels = lo.iao.reference_mol(mol, minao).ao_labels(fmt=False)

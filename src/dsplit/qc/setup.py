@@ -57,12 +57,16 @@ def check_theory(theory: str) -> tuple[str, bool, float]:
 
 def check_basis(basis: str, symbols: list[str]) -> str | None:
     """Raise InputError unless every element has the basis; return the matching ECP name or None."""
+    import warnings
+
     from pyscf import gto
 
     ecp = None
     for sym in sorted(set(symbols)):
         try:
-            shells = gto.basis.load(basis, sym)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                shells = gto.basis.load(basis, sym)
         except Exception:
             shells = None
         if not shells:

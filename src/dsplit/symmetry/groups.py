@@ -227,18 +227,19 @@ def point_group(name: str) -> PointGroup:
     return PointGroup(name)
 
 
-_LINEAR = {"a1": "sigma+", "a2": "sigma-", "e1": "pi", "e2": "delta", "e3": "phi"}
+_LINEAR = {"a1": "sigma+", "a2": "sigma-", "a1g": "sigma_g+", "a2g": "sigma_g-",
+           "a1u": "sigma_u-", "a2u": "sigma_u+", "e1": "pi", "e2": "delta", "e3": "phi"}
 
 
 def linear_label(label: str) -> str:
-    """Map a D8h / C8v proxy label to the D∞h / C∞v one ('e1g' → 'pi_g', 'a1' → 'sigma+').
+    """Map a D8h / C8v proxy label to the D∞h / C∞v one.
 
-    b1/b2 of the proxy hold |m| = 4 (γ) functions and map to 'gamma'.
+    D8h: a1g → Σg+, a2g → Σg−, a2u → Σu+ (z), a1u → Σu−; C8v: a1 → Σ+, a2 → Σ−;
+    e1, e2, e3 → π, δ, φ; b1/b2 (|m| = 4 functions) → γ.  Written in ASCII:
+    'sigma_g+', 'pi_u', 'delta', 'gamma_g'.
     """
+    if label in _LINEAR:
+        return _LINEAR[label]
     core, par = (label[:-1], label[-1]) if label[-1] in "gu" else (label, "")
     name = _LINEAR.get(core, "gamma" if core.startswith("b") else core)
-    if not par:
-        return name
-    if name.endswith("+") or name.endswith("-"):
-        return f"{name[:-1]}_{par}{name[-1]}"
-    return f"{name}_{par}"
+    return f"{name}_{par}" if par else name

@@ -1,0 +1,100 @@
+"""Metal-d character of MOs and the d configuration they describe.
+
+Each MO is expanded in meta-Löwdin orthogonalised AOs (Sun et al., J. Chem.
+Theory Comput. 10, 3784 (2014); ``pyscf.lo.orth_ao(mol, 'meta_lowdin')``), which
+keep atomic character; the weight of MO i on metal d component k is
+w_ki = Σ_shells (Uᵀ S C)²_{(shell,k), i}.  For each d set of the geometry (e.g.
+t2g = {xy, yz, xz}) the g MOs with the largest weight on that set are its
+d-based (antibonding) orbitals; the set's occupation is the sum of theirs.  This
+is the configuration check the engine runs after every SCF.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from dsplit.chem.counting import DSet
+from dsplit.models.aom import D_ORBITALS
+
+_PYSCF_D_NAMES = {"xy": "xy", "yz": "yz", "z^2": "z2", "xz": "xz", "x2-y2": "x2-y2"}
+
+
+def metal_d_indices(mol, metal_atom: int = 0) -> dict[str, list[int]]:
+    """AO indices of each real d component (all d shells) on the metal."""
+    out: dict[str, list[int]] = {k: [] for k in D_ORBITALS}
+    for i, (atom, _sym, shell, comp) in enumerate(mol.ao_labels(fmt=False)):
+        if atom == metal_atom and shell.endswith("d") and comp in _PYSCF_D_NAMES:
+            out[_PYSCF_D_NAMES[comp]].append(i)
+    return out
+
+
+def orthogonal_projector(mol) -> np.ndarray:
+    """Uᵀ S: maps MO coefficients onto meta-Löwdin orthogonal AOs."""
+    from pyscf import lo
+
+    u = lo.orth_ao(mol, "meta_lowdin")
+    return u.T @ mol.intor_symmetric("int1e_ovlp")
+
+
+def d_weights(mol, mo_coeff: np.ndarray, projector: np.ndarray | None = None) -> np.ndarray:
+    """(5, nmo) weights of every MO on the metal d components, in D_ORBITALS order."""
+    proj = orthogonal_projector(mol) if projector is None else projector
+    c = proj @ mo_coeff
+    idx = metal_d_indices(mol)
+    return np.array([np.sum(c[idx[k]] ** 2, axis=0) for k in D_ORBITALS])
+
+
+@dataclass
+class SetPick:
+    """The d-based MOs of one d set for one spin."""
+
+    label: str
+    mo_indices: list[int]
+    weights: list[float]  # weight of each picked MO on the set's d subspace
+    occupation: float
+
+
+def pick_d_based(weights: np.ndarray, mo_occ: np.ndarray, sets: list[DSet]) -> list[SetPick]:
+    """Greedy pick: the MOs with the largest weight on each set's d subspace (no MO twice)."""
+    per_set = []
+    for s in sets:
+        rows = [D_ORBITALS.index(o) for o in s.orbitals]
+        per_set.append(weights[rows].sum(axis=0))
+    per_set = np.array(per_set)
+    need = {i: s.degeneracy for i, s in enumerate(sets)}
+    chosen: dict[int, list[int]] = {i: [] for i in range(len(sets))}
+    used: set[int] = set()
+    order = np.dstack(np.unravel_index(np.argsort(-per_set, axis=None), per_set.shape))[0]
+    for set_i, mo in order:
+        if need[set_i] and mo not in used:
+            chosen[set_i].append(int(mo))
+            used.add(int(mo))
+            need[set_i] -= 1
+        if not any(need.values()):
+            break
+    picks = []
+    for i, s in enumerate(sets):
+        mos = sorted(chosen[i])
+        picks.append(SetPick(s.label, mos, [float(per_set[i, m]) for m in mos], float(np.sum(mo_occ[mos]))))
+    return picks
+
+
+def spin_resolved_target(sets: list[DSet], occupations: list[int], multiplicity: int) -> tuple[list[int], list[int]]:
+    """α and β electrons per d set for a configuration at 2S+1 (Hund's rule within sets).
+
+    Start from the most unpaired distribution per set (α = min(n, g)); pair up in
+    the highest sets until the number of unpaired electrons is 2S.
+    """
+    alpha = [min(n, s.degeneracy) for n, s in zip(occupations, sets)]
+    beta = [n - a for n, a in zip(occupations, alpha)]
+    excess = sum(alpha) - sum(beta) - (multiplicity - 1)
+    for i in reversed(range(len(sets))):
+        while excess >= 2 and alpha[i] - beta[i] >= 2:
+            alpha[i] -= 1
+            beta[i] += 1
+            excess -= 2
+    if excess != 0:
+        raise ValueError("configuration and multiplicity are incompatible")
+    return alpha, beta

@@ -1,0 +1,317 @@
+"""The Calculation stage: a converged, configuration-verified PySCF run of a Complex.
+
+Flow: Mole (symmetry with fallbacks) → mean field → SCF ladder → internal
+stability (follow instabilities) → configuration check of the d-based MOs →
+if the SCF landed in another d configuration, steer it (``irrep_nelec`` per
+symmetry block, else maximum overlap) and check again.  A run that does not
+converge, or whose configuration cannot be verified, comes back marked so; the
+caller withholds every splitting number and exits 3.
+"""
+
+from __future__ import annotations
+
+import os
+import platform
+import sys
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from dsplit.complex import Complex
+from dsplit.errors import InputError
+from dsplit.qc.dcharacter import SetPick, d_weights, orthogonal_projector, pick_d_based, spin_resolved_target
+from dsplit.qc.ladder import Progress, RungRecord, lowest_hessian_eigenvalue, run_ladder
+from dsplit.qc.setup import MethodSetup, build_mole, make_mean_field, memory_estimate_mb
+from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupation
+
+MAX_STABILITY_FOLLOWS = 2
+
+
+@dataclass
+class Calculation:
+    """A finished run (converged or not) with everything later stages read."""
+
+    complex: Complex
+    setup: MethodSetup
+    mol: object
+    mf: object
+    multiplicity: int
+    target_occupations: list[int]
+    target_alpha: list[int]
+    target_beta: list[int]
+    converged: bool
+    configuration_verified: bool
+    configuration_found: str
+    picks: list[list[SetPick]]  # per spin channel (1 for restricted closed shell)
+    rungs: list[RungRecord]
+    stability_lowest: float | None
+    stability_followed: int
+    targeting: str | None  # None, "irrep_nelec" or "maximum-overlap"
+    symmetry_group: str  # PySCF's group used in the SCF ("C1" without symmetry)
+    timings: dict[str, float]
+    notes: list[str] = field(default_factory=list)
+    warnings: list[str] = field(default_factory=list)
+    log_path: Path | None = None
+    chk_path: Path | None = None
+
+    @property
+    def ok(self) -> bool:
+        return self.converged and self.configuration_verified
+
+    @property
+    def energy_hartree(self) -> float:
+        return float(self.mf.e_tot)
+
+    @property
+    def unrestricted(self) -> bool:
+        return np.asarray(self.mf.mo_occ).ndim == 2
+
+    def spin_square(self) -> tuple[float, float]:
+        """(⟨S²⟩, 2S+1) from PySCF."""
+        if not self.unrestricted:
+            s = (self.multiplicity - 1) / 2
+            return s * (s + 1), float(self.multiplicity)
+        ss, m = self.mf.spin_square()
+        return float(ss), float(m)
+
+
+def _channels(mf) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    """(mo_coeff, mo_occ, mo_energy) per spin channel; ROHF split into α/β occupations."""
+    occ = np.asarray(mf.mo_occ)
+    if occ.ndim == 2:
+        return [(mf.mo_coeff[s], occ[s], mf.mo_energy[s]) for s in (0, 1)]
+    if (occ == 1).any():  # restricted open shell: same orbitals, α = occ > 0, β = occ == 2
+        return [(mf.mo_coeff, (occ > 0).astype(float), mf.mo_energy),
+                (mf.mo_coeff, (occ > 1).astype(float), mf.mo_energy)]
+    return [(mf.mo_coeff, occ, mf.mo_energy)]
+
+
+def check_configuration(mf, cx: Complex, projector: np.ndarray, target_alpha: list[int],
+                        target_beta: list[int]) -> tuple[bool, list[list[SetPick]], str]:
+    """Compare the d-based MO occupations with the target, per spin."""
+    chans = _channels(mf)
+    picks = [pick_d_based(d_weights(mf.mol, c, projector), o, cx.d_sets) for c, o, _ in chans]
+    if len(chans) == 1:
+        found = [round(p.occupation) for p in picks[0]]
+        ok = found == [a + b for a, b in zip(target_alpha, target_beta)]
+    else:
+        fa = [round(p.occupation) for p in picks[0]]
+        fb = [round(p.occupation) for p in picks[1]]
+        found = [a + b for a, b in zip(fa, fb)]
+        ok = fa == target_alpha and fb == target_beta
+    text = " ".join(f"{s.label}^{n}" for s, n in zip(cx.d_sets, found))
+    return ok, picks, text
+
+
+def _initial_density(mf, start_from: Path | None, notes: list[str]):
+    if start_from is not None and Path(start_from).is_file():
+        try:
+            dm = mf.from_chk(str(start_from))
+            n = np.trace(np.sum(np.atleast_3d(dm).reshape(-1, *dm.shape[-2:]), axis=0) @ mf.get_ovlp())
+            if abs(n - mf.mol.nelectron) < 1e-3:
+                notes.append(f"started from checkpoint {start_from}")
+                return dm
+            notes.append(f"checkpoint {start_from} did not fit (electron count); started from atoms")
+        except Exception as exc:  # a checkpoint of another molecule does not fit
+            notes.append(f"checkpoint {start_from} did not fit ({type(exc).__name__}); started from atoms")
+    return mf.get_init_guess(key="atom")
+
+
+def _target_occupations(mf, picks, target_alpha, target_beta):
+    chans = _channels(mf)
+    closed = len(chans) == 1
+    targets = [[a + b for a, b in zip(target_alpha, target_beta)]] if closed else [target_alpha, target_beta]
+    nelec = [mf.mol.nelectron] if closed else list(mf.mol.nelec)
+    occs = [target_occupation(e, o, p, t, n, per_orbital=2.0 if closed else 1.0)
+            for (c, o, e), p, t, n in zip(chans, picks, targets, nelec)]
+    return chans, closed, occs
+
+
+def _steer_by_blocks(mf, picks, target_alpha, target_beta, progress, notes):
+    """Fix electrons per symmetry block (irrep_nelec) to the target's counts; None if it cannot help."""
+    chans, closed, occs = _target_occupations(mf, picks, target_alpha, target_beta)
+    syms = [orbital_symmetries(mf, c) for c, _, _ in chans]
+    if any(s is None for s in syms) or mf.mol.groupname == "C1":
+        return None
+    counts = [irrep_counts(s, o) for s, o in zip(syms, occs)]
+    now = [irrep_counts(s, c[1]) for s, c in zip(syms, chans)]
+    if counts == now:
+        return None
+    irreps = sorted(set().union(*counts, *now))
+    if closed:
+        mf.irrep_nelec = {ir: int(round(counts[0].get(ir, 0))) for ir in irreps}
+    else:
+        mf.irrep_nelec = {ir: (int(round(counts[0].get(ir, 0))), int(round(counts[1].get(ir, 0))))
+                          for ir in irreps}
+    notes.append("configuration steered with fixed electrons per symmetry block (irrep_nelec)")
+    return run_ladder(mf, mf.make_rdm1(), progress, rungs=("diis", "level-shift"))
+
+
+def _steer_by_overlap(mf, picks, target_alpha, target_beta, progress, notes):
+    """Maximum-overlap occupations built on the current orbitals; None if not possible."""
+    from pyscf import scf
+
+    chans, closed, occs = _target_occupations(mf, picks, target_alpha, target_beta)
+    if not closed and np.asarray(mf.mo_occ).ndim == 1:
+        notes.append("restricted-open run: maximum-overlap steering is not available")
+        return None
+    if getattr(mf, "irrep_nelec", None):
+        mf.irrep_nelec = {}
+    mo0 = chans[0][0] if closed else np.array([chans[0][0], chans[1][0]])
+    occ0 = occs[0] if closed else np.array([occs[0], occs[1]])
+    mf = scf.addons.mom_occ(mf, mo0, occ0)
+    notes.append("configuration steered with maximum-overlap occupations (MOM)")
+    return run_ladder(mf, mf.make_rdm1(mo0, occ0), progress, rungs=("diis", "level-shift"))
+
+
+def _steer(mf, cx, projector, picks, target_alpha, target_beta, progress, notes):
+    """Try block occupations, then maximum overlap, until the target is verified."""
+    records: list[RungRecord] = []
+    method = None
+    verified, found = False, ""
+    for name, step in (("irrep_nelec", _steer_by_blocks), ("maximum-overlap", _steer_by_overlap)):
+        out = step(mf, picks, target_alpha, target_beta, progress, notes)
+        if out is None:
+            continue
+        mf, more = out
+        records += more
+        method = name
+        if mf.converged:
+            verified, picks, found = check_configuration(mf, cx, projector, target_alpha, target_beta)
+            if verified:
+                break
+            notes.append(f"after {name}: {found}")
+    return mf, method, records, verified, picks, found
+
+
+def provenance_versions() -> dict[str, str]:
+    import ase
+    import pyscf
+    import scipy
+
+    import dsplit
+
+    return {"dsplit": dsplit.__version__, "pyscf": pyscf.__version__, "numpy": np.__version__,
+            "scipy": scipy.__version__, "ase": ase.__version__, "python": platform.python_version()}
+
+
+def run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = None, **kwargs) -> Calculation:
+    """Run, stabilise and verify one SCF of ``cx`` (see module docstring).
+
+    Keyword arguments: ``multiplicity``, ``target_occupations`` (electrons per d set),
+    ``progress`` (callback), ``start_from`` (a checkpoint), ``use_symmetry``,
+    ``stability``, ``tag`` (file stem of the log and checkpoint).  PySCF's own
+    terminal output (stdout and its stderr warnings) goes to the log only.
+    """
+    import contextlib
+    import io
+
+    # PySCF writes warnings to stderr as well as to its log: keep them in the log only
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        return _run_calculation(cx, setup, out_dir, **kwargs)
+
+
+def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = None, *,
+                     multiplicity: int | None = None, target_occupations: list[int] | None = None,
+                     progress: Progress | None = None, start_from: Path | None = None,
+                     use_symmetry: bool = True, stability: bool = True, tag: str = "scf") -> Calculation:
+    from pyscf import lib
+
+    from dsplit.chem.counting import configuration_occupations
+
+    timings: dict[str, float] = {}
+    t_wall, t_cpu = time.perf_counter(), time.process_time()
+    lib.num_threads(setup.threads)
+    mult = multiplicity or cx.multiplicity
+    if target_occupations is None:
+        target_occupations = (configuration_occupations(cx.d_sets, cx.d_count, mult) if multiplicity
+                              else _spec_occupations(cx))
+    try:
+        t_alpha, t_beta = spin_resolved_target(cx.d_sets, target_occupations, mult)
+    except ValueError:
+        raise InputError("complex.configuration", f"the configuration cannot have multiplicity {mult}") from None
+
+    log_path = chk_path = None
+    if out_dir is not None:
+        out_dir.mkdir(parents=True, exist_ok=True)
+        log_path, chk_path = out_dir / f"{tag}.log", out_dir / f"{tag}.chk"
+    mol, sym_note = build_mole(cx, setup, mult, log_path, use_symmetry=use_symmetry)
+    notes = list(setup.notes)
+    if sym_note:
+        notes.append(sym_note)
+    need = memory_estimate_mb(mol, setup)
+    if setup.memory_mb is not None and need > setup.memory_mb:
+        raise InputError("--memory", f"{setup.memory_mb} MB is too small for this run (about {need:.0f} MB "
+                                     "needed); raise --memory or use density fitting")
+    restricted = mult == 1 or setup.open_shell == "restricted"
+    mf = make_mean_field(mol, cx, setup, restricted=restricted)
+    if chk_path is not None:
+        mf.chkfile = str(chk_path)
+    dm0 = _initial_density(mf, start_from, notes)
+    timings["setup"] = time.perf_counter() - t_wall
+
+    t0 = time.perf_counter()
+    mf, rungs = run_ladder(mf, dm0, progress)
+    timings["scf"] = time.perf_counter() - t0
+
+    t0 = time.perf_counter()
+    lowest, followed = None, 0
+    if mf.converged and stability:
+        for _ in range(MAX_STABILITY_FOLLOWS + 1):
+            lowest, rotated = lowest_hessian_eigenvalue(mf)
+            if rotated is None or followed == MAX_STABILITY_FOLLOWS:
+                break
+            followed += 1
+            notes.append(f"internal instability (lowest Hessian eigenvalue {lowest:.2e}) followed")
+            mf, more = run_ladder(mf, mf.make_rdm1(rotated, mf.mo_occ), progress)
+            rungs += more
+            if not mf.converged:
+                break
+    timings["stability"] = time.perf_counter() - t0
+
+    t0 = time.perf_counter()
+    projector = orthogonal_projector(mol)
+    verified, picks, found = (False, [], "not checked")
+    targeting = None
+    if mf.converged:
+        verified, picks, found = check_configuration(mf, cx, projector, t_alpha, t_beta)
+        if not verified:
+            landed_energy, landed = float(mf.e_tot), found
+            notes.append(f"SCF landed in {found}; steering to the target")
+            mf, targeting, more, verified, new_picks, new_found = _steer(mf, cx, projector, picks, t_alpha, t_beta,
+                                                                         progress, notes)
+            rungs += more
+            if targeting is not None and mf.converged:
+                picks, found = new_picks, new_found
+                if verified and landed_energy < mf.e_tot - 1e-6:
+                    notes.append(f"the SCF first found {landed} {(mf.e_tot - landed_energy) * 627.5094740631:.1f} "
+                                 "kcal/mol below the target configuration: the target may not be the ground state")
+    timings["configuration"] = time.perf_counter() - t0
+    timings["wall"] = time.perf_counter() - t_wall
+    timings["cpu"] = time.process_time() - t_cpu
+    warnings = []
+    if not mf.converged:
+        warnings.append("SCF did not converge on any rung: no result")
+    elif not verified:
+        warnings.append(f"configuration not verified: found {found}, wanted "
+                        + " ".join(f"{s.label}^{n}" for s, n in zip(cx.d_sets, target_occupations)))
+    return Calculation(
+        complex=cx, setup=setup, mol=mol, mf=mf, multiplicity=mult, target_occupations=list(target_occupations),
+        target_alpha=t_alpha, target_beta=t_beta, converged=bool(mf.converged), configuration_verified=verified,
+        configuration_found=found, picks=picks, rungs=rungs, stability_lowest=lowest,
+        stability_followed=followed, targeting=targeting, symmetry_group=str(mol.groupname if mol.symmetry else "C1"),
+        timings=timings, notes=notes, warnings=warnings, log_path=log_path, chk_path=chk_path,
+    )
+
+
+def _spec_occupations(cx: Complex) -> list[int]:
+    from dsplit.chem.counting import parse_configuration
+
+    return parse_configuration(cx.configuration, cx.d_sets, cx.d_count)
+
+
+def machine_info() -> dict[str, object]:
+    return {"platform": platform.platform(), "processor": platform.machine(), "cores": os.cpu_count(),
+            "python_executable": sys.executable}

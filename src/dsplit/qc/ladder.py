@@ -1,0 +1,153 @@
+"""The SCF ladder and internal stability analysis.
+
+Rungs, each started from the best density so far, until one converges:
+1. ``diis``: plain DIIS from the superposition-of-atoms guess;
+2. ``level-shift``: level shift 0.3 Eh and damping 0.3 (Saunders & Hillier,
+   Int. J. Quantum Chem. 7, 699 (1973));
+3. ``newton``: second-order (augmented-Hessian Newton) solver, ``mf.newton()``;
+4. ``fractional``: fractional occupation of degenerate frontier orbitals
+   (``pyscf.scf.addons.frac_occ``), then exact occupations with the Newton solver.
+A converged rung is polished by a plain SCF from its density so that orbital
+energies carry no level shift.
+
+Internal stability: lowest eigenvalues of the orbital-rotation Hessian by Davidson
+(as ``pyscf.scf.stability`` does it, Seeger & Pople, J. Chem. Phys. 66, 3045
+(1977)); a negative one is followed by rotating the orbitals along its
+eigenvector and re-converging.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+
+Progress = Callable[[str, int, float, float], None]
+RUNGS = ("diis", "level-shift", "newton", "fractional")
+
+
+@dataclass
+class RungRecord:
+    rung: str
+    converged: bool
+    cycles: int
+    energy_hartree: float
+    gradient_norm: float
+    seconds: float
+
+
+def _grad_norm(mf) -> float:
+    try:
+        return float(np.linalg.norm(mf.get_grad(mf.mo_coeff, mf.mo_occ)))
+    except Exception:
+        return float("nan")
+
+
+def _attach_progress(mf, rung: str, progress: Progress | None) -> None:
+    if progress is None:
+        mf.callback = None
+        return
+
+    def cb(envs):
+        e, last = envs.get("e_tot", 0.0), envs.get("last_hf_e", 0.0)
+        progress(rung, int(envs.get("cycle", 0)) + 1, float(e), float(e - last))
+
+    mf.callback = cb
+
+
+def _run(mf, rung: str, dm0, progress: Progress | None, newton_ok: bool) -> tuple[object, RungRecord]:
+    from pyscf import scf
+
+    t0 = time.perf_counter()
+    mf.level_shift, mf.damp = 0.0, 0.0
+    solver = mf
+    if rung == "diis":
+        _attach_progress(mf, rung, progress)
+        mf.kernel(dm0)
+    elif rung == "level-shift":
+        mf.level_shift, mf.damp = 0.3, 0.3
+        _attach_progress(mf, rung, progress)
+        mf.kernel(dm0)
+        mf.level_shift, mf.damp = 0.0, 0.0
+    elif rung == "newton":
+        solver = mf.newton()
+        _attach_progress(solver, rung, progress)
+        mo, occ = mf.mo_coeff, mf.mo_occ
+        solver.kernel(mo, occ) if mo is not None else solver.kernel(dm0)
+    elif rung == "fractional":
+        frac = scf.addons.frac_occ(mf.copy())
+        _attach_progress(frac, rung, progress)
+        frac.kernel(dm0)
+        dm = frac.make_rdm1()
+        solver = mf.newton()
+        _attach_progress(solver, rung, progress)
+        solver.kernel(dm0=dm) if hasattr(solver, "kernel") else None
+    cycles = int(getattr(solver, "cycles", 0) or 0)
+    if solver is not mf:
+        for attr in ("mo_coeff", "mo_occ", "mo_energy", "e_tot", "converged"):
+            setattr(mf, attr, getattr(solver, attr))
+    if mf.converged:  # polish: plain SCF from the converged density (no shift left in energies)
+        _attach_progress(mf, rung, progress)
+        mf.kernel(mf.make_rdm1())
+    rec = RungRecord(rung, bool(mf.converged), cycles, float(mf.e_tot), _grad_norm(mf),
+                     time.perf_counter() - t0)
+    return mf, rec
+
+
+def run_ladder(mf, dm0, progress: Progress | None = None, rungs: tuple[str, ...] = RUNGS,
+               newton_ok: bool = True) -> tuple[object, list[RungRecord]]:
+    """Climb the ladder until a rung converges; returns (mf, records of every rung run)."""
+    records: list[RungRecord] = []
+    dm = dm0
+    for rung in rungs:
+        if rung in ("newton", "fractional") and not newton_ok:
+            continue
+        mf, rec = _run(mf, rung, dm, progress, newton_ok)
+        records.append(rec)
+        if rec.converged:
+            break
+        if mf.mo_coeff is not None:
+            dm = mf.make_rdm1()
+    return mf, records
+
+
+def lowest_hessian_eigenvalue(mf, nroots: int = 1) -> tuple[float, object]:
+    """(lowest eigenvalue of the internal orbital-rotation Hessian, rotated MOs or None)."""
+    from pyscf import lib, scf
+    from pyscf.scf import stability
+    from pyscf.soscf import newton_ah
+
+    if isinstance(mf, scf.rohf.ROHF):
+        gen = newton_ah.gen_g_hop_rohf
+    elif isinstance(mf, scf.uhf.UHF):
+        gen = newton_ah.gen_g_hop_uhf
+    else:
+        gen = newton_ah.gen_g_hop_rhf
+    g, hop, hdiag = gen(mf, mf.mo_coeff, mf.mo_occ, with_symmetry=True)
+    hdiag = hdiag * 2
+
+    def precond(dx, e, x0):
+        d = hdiag - e
+        d[abs(d) < 1e-8] = 1e-8
+        return dx / d
+
+    x0 = np.zeros_like(g)
+    x0[g != 0] = 1.0 / hdiag[g != 0]
+    nroots = min(nroots, int(np.count_nonzero(g != 0)) or 1)
+    e, v = lib.davidson(lambda x: hop(x).real * 2, x0, precond, tol=1e-3, nroots=nroots, max_cycle=30, verbose=0)
+    if nroots != 1:
+        e, v = e[0], v[0]
+    e = float(e)
+    if e >= -1e-5:
+        return e, None
+    if isinstance(mf, scf.uhf.UHF) and not isinstance(mf, scf.rohf.ROHF):
+        nocca = int(np.count_nonzero(mf.mo_occ[0] > 0))
+        nvira = int(np.count_nonzero(mf.mo_occ[0] == 0))
+        mo = (stability._rotate_mo(mf.mo_coeff[0], mf.mo_occ[0], v[: nocca * nvira]),
+              stability._rotate_mo(mf.mo_coeff[1], mf.mo_occ[1], v[nocca * nvira:]))
+        return e, mo
+    if isinstance(mf, scf.rohf.ROHF):
+        return e, None  # ROHF rotations mix spaces; report only
+    return e, stability._rotate_mo(mf.mo_coeff, mf.mo_occ, v)
