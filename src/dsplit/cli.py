@@ -172,5 +172,120 @@ def build_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond
         print_summary(summary)
 
 
+def method_options(func):
+    """Flags that override the spec's [method] table."""
+    opts = [
+        click.option("--theory", help="HF or a functional PySCF knows (B3LYP, PBE0, PBE, TPSSh, …)."),
+        click.option("--basis", help="Basis set name (default def2-SVP)."),
+        click.option("--solvent", help="none, a solvent name (water, acetonitrile, …) or a dielectric constant."),
+        click.option("--density-fitting/--no-density-fitting", default=None, help="Density fitting (default on)."),
+        click.option("--open-shell", type=click.Choice(["unrestricted", "restricted"]), default=None,
+                     help="Reference for open shells (default unrestricted)."),
+        click.option("--threads", type=int, help="CPU threads (default: all cores)."),
+        click.option("--memory", "memory_mb", type=int, help="Memory limit in MB."),
+    ]
+    for opt in reversed(opts):
+        func = opt(func)
+    return func
+
+
+def _method_overrides(theory, basis, solvent, density_fitting, open_shell) -> dict:
+    out = {"theory": theory, "basis": basis, "density_fitting": density_fitting, "open_shell": open_shell}
+    if solvent is not None:
+        try:
+            out["solvent"] = float(solvent)
+        except ValueError:
+            out["solvent"] = solvent
+    return out
+
+
+def load_full_spec(spec_path, complex_over: dict, method_over: dict):
+    """Spec from a file and/or flags, with both [complex] and [method] overrides applied."""
+    from dsplit.errors import InputError
+    from dsplit.spec import load_spec, parse_toml_text, spec_from_dict
+
+    if spec_path is None:
+        data: dict = {"complex": {}}
+    else:
+        load_spec(spec_path)
+        with open(spec_path, encoding="utf-8") as fh:
+            data = parse_toml_text(fh.read(), spec_path)
+    cx = data.setdefault("complex", {})
+    cx.update({k: v for k, v in complex_over.items() if v is not None})
+    md = data.setdefault("method", {})
+    md.update({k: v for k, v in method_over.items() if v is not None})
+    if spec_path is None and not cx:
+        raise InputError("SPEC", "give a spec file or --metal/--geometry/--ligands flags")
+    from pathlib import Path
+
+    return spec_from_dict(data, default_name=Path(spec_path).stem if spec_path else "complex")
+
+
+class ProgressLine:
+    """A one-line live status on stderr: rung, SCF cycle, energy change."""
+
+    def __init__(self, quiet: bool) -> None:
+        self.status = None
+        if not quiet and sys.stderr.isatty():
+            from rich.console import Console
+
+            self.status = Console(stderr=True).status("starting …")
+
+    def __enter__(self):
+        if self.status is not None:
+            self.status.__enter__()
+        return self
+
+    def __exit__(self, *exc):
+        if self.status is not None:
+            self.status.__exit__(*exc)
+
+    def __call__(self, rung: str, cycle: int, energy: float, delta: float) -> None:
+        if self.status is not None:
+            self.status.update(f"SCF [{rung}] cycle {cycle:3d}  E = {energy:.8f} Eh  ΔE = {delta:+.2e}")
+
+    def stage(self, text: str) -> None:
+        if self.status is not None:
+            self.status.update(text)
+
+
+@main.command("compute")
+@click.argument("spec", required=False, type=click.Path(dir_okay=False))
+@complex_options
+@method_options
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), help="Folder for the run (default: ./NAME).")
+@click.option("--start-from", type=click.Path(exists=True, dir_okay=False),
+              help="A checkpoint (.chk) of the same complex to start the SCF from.")
+@click.option("--quiet", is_flag=True, help="No progress line, no tables.")
+@click.option("--json", "as_json", is_flag=True, help="Print result.json to stdout as well.")
+@handles_errors
+def compute_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
+                theory, basis, solvent, density_fitting, open_shell, threads, memory_mb, out_dir, start_from,
+                quiet, as_json) -> None:
+    """Compute SPEC: verified SCF, full-group orbital labels, splitting, checks, report."""
+    from pathlib import Path
+
+    from dsplit.compute_api import compute
+
+    s = load_full_spec(spec, _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length,
+                                        multiplicity),
+                       _method_overrides(theory, basis, solvent, density_fitting, open_shell))
+    out = Path(out_dir) if out_dir else Path(s.name)
+    with ProgressLine(quiet or as_json) as line:
+        run = compute(s, out, threads=threads, memory_mb=memory_mb, progress=line,
+                      start_from=Path(start_from) if start_from else None)
+    if as_json:
+        import json
+
+        click.echo(json.dumps(run.result, indent=2, ensure_ascii=False))
+    elif not quiet:
+        from dsplit.report.terminal import print_run
+
+        print_run(run.result, run.out_dir)
+    if run.exit_code:
+        click.echo("dsplit: calculation not verified: " + "; ".join(run.result.get("warnings", [])), err=True)
+    sys.exit(run.exit_code)
+
+
 if __name__ == "__main__":  # pragma: no cover
     main()

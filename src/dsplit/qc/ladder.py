@@ -39,8 +39,9 @@ class RungRecord:
 
 
 def _grad_norm(mf) -> float:
-    try:
-        return float(np.linalg.norm(mf.get_grad(mf.mo_coeff, mf.mo_occ)))
+    try:  # the full Fock matrix (get_fock includes solvent and point-charge terms)
+        fock = mf.get_fock(dm=mf.make_rdm1())
+        return float(np.linalg.norm(mf.get_grad(mf.mo_coeff, mf.mo_occ, fock)))
     except Exception:
         return float("nan")
 

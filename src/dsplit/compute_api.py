@@ -1,0 +1,123 @@
+"""Python API behind ``dsplit compute``: spec → Complex → Calculation → OrbitalTable
+→ (Splitting → Comparison) → result.json + reports, written atomically to one folder.
+
+Every input is validated before any file is written or any SCF starts (exit 2);
+an unconverged or unverified calculation is written with ``converged`` /
+``configuration_verified`` false and no splitting numbers (exit 3).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable
+
+from dsplit.errors import InputError
+from dsplit.spec import Spec
+
+
+@dataclass
+class RunOutput:
+    result: dict[str, Any]
+    out_dir: Path
+    exit_code: int
+
+
+def preflight(spec: Spec, threads: int | None = None, memory_mb: int | None = None):
+    """Validate everything that can be validated without an SCF; returns (complex, setup)."""
+    from dsplit.geometry.build import build_complex
+    from dsplit.qc.setup import build_mole, memory_estimate_mb, resolve_method
+
+    cx = build_complex(spec.complex)
+    setup = resolve_method(cx, spec.method, threads=threads, memory_mb=memory_mb)
+    if memory_mb is not None:
+        if memory_mb < 100:
+            raise InputError("--memory", f"{memory_mb} MB is too small; give at least 100 MB")
+        mol, _ = build_mole(cx, setup, use_symmetry=False)
+        need = memory_estimate_mb(mol, setup)
+        if need > memory_mb:
+            raise InputError("--memory", f"{memory_mb} MB is too small for this run (about {need:.0f} MB "
+                                         "needed); raise --memory or keep density fitting on")
+    return cx, setup
+
+
+def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".part")
+    with os.fdopen(fd, "w", encoding="utf-8") as fh:
+        json.dump(doc, fh, indent=2, ensure_ascii=False)
+        fh.write("\n")
+    os.replace(tmp, path)
+
+
+def _replace_dir(tmp_dir: Path, out_dir: Path) -> None:
+    """Move a finished run folder into place (an old folder of the same name is replaced)."""
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    if out_dir.exists():
+        trash = out_dir.with_name(f".{out_dir.name}.old-{os.getpid()}")
+        os.replace(out_dir, trash)
+        os.replace(tmp_dir, out_dir)
+        shutil.rmtree(trash, ignore_errors=True)
+    else:
+        os.replace(tmp_dir, out_dir)
+
+
+def compute(spec: Spec, out_dir: Path, *, threads: int | None = None, memory_mb: int | None = None,
+            progress: Callable | None = None, start_from: Path | None = None,
+            estimators: bool = True, write_reports: bool = True) -> RunOutput:
+    """Run the whole job for one spec; files land in ``out_dir`` only when finished."""
+    from dsplit.analysis.orbitals import build_orbital_table
+    from dsplit.qc.engine import run_calculation
+    from dsplit.report.result import build_result
+
+    cx, setup = preflight(spec, threads, memory_mb)
+    out_dir = Path(out_dir)
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    tmp_dir = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    try:
+        calc = run_calculation(cx, setup, tmp_dir, progress=progress, start_from=start_from)
+        table = build_orbital_table(calc) if calc.ok else None
+        extra: dict[str, Any] = {}
+        if calc.ok and estimators:
+            extra.update(_splitting_and_models(spec, cx, calc, table, tmp_dir, progress))
+        elif not calc.ok:
+            extra["splitting"] = None
+            extra["splitting_withheld"] = "the calculation did not converge or its configuration was not verified"
+        doc = build_result(spec, cx, calc, table, extra)
+        _write_geometry(cx, tmp_dir)
+        write_json_atomic(tmp_dir / "spec.json", spec.normalised())
+        write_json_atomic(tmp_dir / "result.json", doc)
+        if write_reports:
+            _write_reports(doc, tmp_dir)
+        _replace_dir(tmp_dir, out_dir)
+    except BaseException:
+        shutil.rmtree(tmp_dir, ignore_errors=True)
+        raise
+    code = 0 if calc.ok and not doc.get("estimators_failed") else 3
+    return RunOutput(doc, out_dir, code)
+
+
+def _write_geometry(cx, folder: Path) -> None:
+    from dsplit.build_api import write_geometry
+
+    write_geometry(cx, folder / "geometry.xyz")
+
+
+def _splitting_and_models(spec, cx, calc, table, folder, progress) -> dict[str, Any]:
+    """Splitting estimators and ligand-field comparison (dsplit.analysis.splitting, when present)."""
+    try:
+        from dsplit.analysis.splitting import estimate_splitting
+    except ImportError:
+        return {}
+    return estimate_splitting(spec, cx, calc, table, folder, progress=progress)
+
+
+def _write_reports(doc: dict[str, Any], folder: Path) -> None:
+    try:
+        from dsplit.report.render import write_reports
+    except ImportError:
+        return
+    write_reports(doc, folder)
