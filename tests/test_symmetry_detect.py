@@ -140,6 +140,9 @@ CASES = {
                                         [0, 1.5, -0.6], [0, -1.5, -0.6]])), "C2v"),
     "Cs": (lambda: (["M", "X", "Y", "Y"], np.array([[0, 0, 0], [2, 0, 0.1], [0, 2, 0.4],
                                                     [0, -2, 0.4]])), "Cs"),
+    "Ci": (lambda: (["M", "X", "X", "Y", "Y", "Z", "Z"],
+                    np.array([[0, 0, 0], [2, 0.3, 0.1], [-2, -0.3, -0.1], [0.2, 2.1, 0.5],
+                              [-0.2, -2.1, -0.5], [0.4, -0.6, 1.9], [-0.4, 0.6, -1.9]])), "Ci"),
     "C1": (lambda: (["M", "X", "Y", "Z"], np.array([[0, 0, 0], [2, 0.1, 0], [0.3, 2, 0.2],
                                                     [0.1, -0.5, 2]])), "C1"),
 }
@@ -206,6 +209,21 @@ def test_tolerance():
     assert detect_point_group(symbols, noisier, tol=0.2).name == "Th"
 
 
+@pytest.mark.parametrize("case", ["octahedral MF6", "trigonal bipyramid", "square pyramid",
+                                  "mer-MA3B3", "rhombic distortion", "hexaammine D3d",
+                                  "twisted prism"])
+def test_noise_well_below_tolerance(case):
+    # positional noise of tol/10 must not lower the group (the axes are re-fitted)
+    symbols, pos = CASES[case][0]()
+    ref = detect_point_group(symbols, pos).name
+    rng = np.random.default_rng(17)
+    for _ in range(4):
+        noisy = pos + rng.normal(scale=1e-4, size=pos.shape)
+        sym = detect_point_group(symbols, noisy, tol=1e-3)
+        assert sym.name == ref
+        _check_ops(sym, symbols, noisy, tol=1e-3)
+
+
 def test_detection_is_fast():
     # the builder calls detection for several candidate orientations: milliseconds
     symbols, pos = hexaaqua_th()           # 19 atoms
@@ -224,3 +242,27 @@ def test_detection_does_not_import_pyscf():
             "s.ligand_salcs; s.point_group('Oh'); "
             "assert 'pyscf' not in sys.modules, 'pyscf imported'")
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+def _orbit_molecule(name):
+    """Metal plus the orbits of two generic points under the standard group ``name``:
+    a molecule whose group is exactly ``name`` (by construction)."""
+    from dsplit.symmetry import point_group
+    g = point_group(name)
+    pts = [np.unique(np.round(np.einsum("gij,j->gi", g.ops, q), 9), axis=0)
+           for q in ([0.83, 0.29, 0.47], [0.21, -0.13, 1.31])]
+    symbols = ["Fe"] + ["H"] * len(pts[0]) + ["C"] * len(pts[1])
+    return symbols, np.vstack([np.zeros((1, 3))] + pts)
+
+
+@pytest.mark.parametrize("name", ["Cs", "C2", "C3", "C4", "S4", "S6", "S8", "C2v", "C3v",
+                                  "C4v", "C6v", "C2h", "C3h", "C4h", "D2", "D3", "D4", "D6",
+                                  "D2h", "D3h", "D4h", "D6h", "D2d", "D3d", "D4d", "D5d",
+                                  "T", "Td", "Th", "O", "Oh"])
+def test_generic_orbits(name):
+    symbols, pos = _orbit_molecule(name)
+    moved, _ = transform(pos, seed=len(name))
+    sym = detect_point_group(symbols, moved)
+    assert sym.name == name
+    _check_ops(sym, symbols, moved)
+    assert libmsym_group(symbols, moved) == name

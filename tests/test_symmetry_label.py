@@ -166,6 +166,14 @@ def test_sets_split_merge_and_mixed(tif6):
     res = label_orbitals(mol, c, e1, merge_tol=0.0)
     assert [res.labels[i] for i in eg] == [MIXED, MIXED]
     assert all("not closed" in es.note for es in res.sets if eg[0] in es.indices)
+    # a lone partner (the other one far away) next to a complete t1u set: the
+    # merge does not close, is undone, and only the lone orbital is 'mixed'
+    t1u = [es for es in ref.sets if es.label == "t1u" and mf.mo_occ[es.indices[0]] == 0][0]
+    e4 = e.copy()
+    e4[eg[1]] += 0.5
+    e4[t1u.indices] = e[eg[0]] + 5e-3
+    res = label_orbitals(mol, c, e4)
+    assert res.labels[eg[0]] == MIXED and [res.labels[i] for i in t1u.indices] == ["t1u"] * 3
     # (2) accidental near-degeneracy of a1g with t2g: one chain, split by irrep
     e2 = e.copy()
     e2[a1g[0]] = e[t2g[0]] + 5e-4

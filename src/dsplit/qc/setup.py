@@ -161,19 +161,18 @@ def memory_estimate_mb(mol, setup: MethodSetup) -> float:
 
 
 def make_mean_field(mol, cx: Complex, setup: MethodSetup, restricted: bool):
-    """HF/KS object with the requested reference, DF, point charges and PCM."""
+    """HF/KS object with DF, point charges and PCM.
+
+    ``restricted``: RHF/RKS for closed shells, ROHF/ROKS for open shells;
+    otherwise UHF/UKS (also for a spin-0 broken-symmetry determinant).
+    """
     from pyscf import dft, scf
 
-    open_shell = mol.spin != 0
+    closed = mol.spin == 0
     if setup.is_hf:
-        mf = (scf.ROHF(mol) if setup.open_shell == "restricted" else scf.UHF(mol)) if open_shell else scf.RHF(mol)
-        if restricted and open_shell:
-            mf = scf.ROHF(mol)
+        mf = (scf.RHF(mol) if closed else scf.ROHF(mol)) if restricted else scf.UHF(mol)
     else:
-        if open_shell:
-            mf = dft.ROKS(mol) if (setup.open_shell == "restricted" or restricted) else dft.UKS(mol)
-        else:
-            mf = dft.RKS(mol)
+        mf = (dft.RKS(mol) if closed else dft.ROKS(mol)) if restricted else dft.UKS(mol)
         mf.xc = setup.theory
         mf.grids.level = setup.grid_level
     mf.max_cycle = setup.max_cycles

@@ -29,8 +29,12 @@ def _num(x: Any) -> Any:
     if isinstance(x, (np.floating, float)):
         x = float(x)
         return None if not math.isfinite(x) else x
+    if isinstance(x, np.bool_):
+        return bool(x)
     if isinstance(x, np.integer):
         return int(x)
+    if isinstance(x, np.ndarray):
+        return _num(x.tolist())
     if isinstance(x, dict):
         return {str(k): _num(v) for k, v in x.items()}
     if isinstance(x, (list, tuple)):

@@ -9,7 +9,8 @@ Modules (each documents its formulas and API):
 * :mod:`.groups`     point groups in the builder's standard frame, classes,
                      character tables (computed), Mulliken labels
 * :mod:`.chartable`  Burnside–Dixon characters; :mod:`.mulliken` labelling rules
-* :mod:`.detect`     ``detect_point_group`` (numpy only, no PySCF)
+* :mod:`.detect`     ``detect_point_group`` (numpy only, no PySCF); the
+                     element search itself is in :mod:`.elements`
 * :mod:`.salc`       ligand σ/π reducible representations, metal s/p/d irreps
 * :mod:`.aorep`      operations on a PySCF AO basis          (imports PySCF lazily)
 * :mod:`.label`      ``label_orbitals``                       (PySCF)

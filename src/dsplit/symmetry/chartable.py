@@ -2,7 +2,7 @@
 
 Method: Burnside's algorithm as made numerical by Dixon
 (J. D. Dixon, *Numer. Math.* 10, 446 (1967); Burnside, *Theory of Groups of
-Finite Order*, 2nd ed., §223 — from memory).  With class-multiplication
+Finite Order*, 2nd ed. — from memory).  With class-multiplication
 coefficients c_rst = #{(x, y) : x ∈ C_r, y ∈ C_s, x y = z_t} (z_t a fixed member
 of C_t), every irreducible character gives a common eigenvector ω of the
 matrices (M_r)_st = c_rst:

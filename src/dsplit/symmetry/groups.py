@@ -18,8 +18,10 @@ C8v (their e1, e2, e3 are π, δ, φ; see :func:`linear_label`).
 Public API
 ----------
 point_group(name) -> PointGroup          (cached; 'Oh', 'D4h', 'C2v', 'S4', ...)
-PointGroup.name, .ops (|G|,3,3), .order, .classes, .class_of, .class_names,
-    .irreps (tuple[Irrep]), .labels, .complex_chars
+PointGroup.name, .ops (|G|,3,3; E first, grouped by class), .order, .classes
+    (op indices), .class_of (|G|,), .class_sizes, .class_names ('8C3', "2C2'",
+    'sigma_h'), .irreps (tuple[Irrep], textbook order), .labels, .complex_chars
+    (n_class, n_class; the complex table, conjugate pairs unmerged)
 PointGroup.irrep(label) -> Irrep
 PointGroup.op_chars(label) -> ndarray (|G|,)      χ on every operation
 PointGroup.char_matrix -> ndarray (n_irrep, |G|)

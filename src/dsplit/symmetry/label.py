@@ -13,8 +13,9 @@ For orbitals C (columns, AO basis with overlap S) and operations R(g) from
 
 Procedure: orbitals are grouped by energy (consecutive gaps ≤ ``degen_tol``
 Hartree, default 1 mHa).  A set that is not closed has lost a degenerate
-partner across the tolerance: it is merged with the next set while the gap is
-≤ ``merge_tol`` (default 10 × ``degen_tol``) until it closes.  A closed set whose
+partner across the tolerance: it is merged with the next sets while the gap is
+≤ ``merge_tol`` (default 10 × ``degen_tol``) until it closes (if it never closes
+the merge is undone and only that set is 'mixed').  A closed set whose
 best weight is ≥ ``threshold`` (default 0.9) gets that irrep.  A closed set
 holding several irreps (accidental near-degeneracy) is split by each orbital's
 own best irrep when every orbital is itself ≥ ``threshold`` pure and every part
@@ -150,16 +151,18 @@ def label_orbitals(mol, mo_coeff: np.ndarray, mo_energy: np.ndarray,
     out: list[OrbitalSet] = []
     k = 0
     while k < len(raw):
-        idx = list(raw[k])
-        es = an.evaluate(idx)
-        while es.leak > close_tol and k + 1 < len(raw) and \
-                e[raw[k + 1]].min() - e[idx].max() <= merge:
-            k += 1
-            idx += raw[k]
+        first = an.evaluate(list(raw[k]))
+        es, idx, j = first, list(raw[k]), k
+        while es.leak > close_tol and j + 1 < len(raw) and \
+                e[raw[j + 1]].min() - e[idx].max() <= merge:
+            j += 1
+            idx += raw[j]
             es = an.evaluate(idx)
             es.note = es.note or "merged across the degeneracy tolerance"
+        if es.leak > close_tol:      # never closed: keep only the first set, as 'mixed'
+            es, j = first, k
         out += an.split(es) if es.label == MIXED and es.leak <= close_tol else [es]
-        k += 1
+        k = j + 1
     out.sort(key=lambda x: x.energy)
     labels = [MIXED] * c.shape[1]
     weights = [0.0] * c.shape[1]

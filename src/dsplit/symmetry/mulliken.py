@@ -1,7 +1,7 @@
 """Mulliken labels for the irreps of a point group in its standard frame.
 
-Rules (R. S. Mulliken, *J. Chem. Phys.* 23, 1997 (1955); as tabulated in
-F. A. Cotton, *Chemical Applications of Group Theory*, 3rd ed., §4.4 —
+Rules (R. S. Mulliken, *J. Chem. Phys.* 23, 1997 (1955); as used in
+F. A. Cotton, *Chemical Applications of Group Theory*, 3rd ed., ch. 4 —
 from memory), with the standard frame of :mod:`dsplit.symmetry.groups`
 (principal axis z, the first C2' on x, σv containing x and z):
 

@@ -1,14 +1,15 @@
 """Ligand σ/π SALC symmetry and metal s, p, d irreps (pure numpy).
 
 Characters of the reducible representations, for operations g about the metal
-(Cotton, *Chemical Applications of Group Theory*, 3rd ed., ch. 8–9 — from memory):
+(Cotton, *Chemical Applications of Group Theory*, 3rd ed., chapters on hybrid
+orbitals and MO theory — from memory):
 
 * σ set (one radial vector per donor): χ_σ(g) = number of donors left in place;
 * π set (two tangential vectors per donor): χ_π(g) = Σ_{fixed donors} (tr g − uᵀ g u)
   with u the metal→donor unit vector (uᵀ g u = 1 for a fixed donor);
 * metal: χ_s = 1, χ_p = tr g, χ_d = (tr(g)² + tr(g²))/2 − 1 (symmetric square of
-  the vector representation minus the invariant r²; Fulton & Harris,
-  *Representation Theory*, §2.1 — from memory).
+  the vector representation minus the invariant r²: χ_{S²V}(g) = (χ(g)² + χ(g²))/2;
+  Fulton & Harris, *Representation Theory: A First Course* — from memory).
 
 Reduction n_Γ = Σ_g χ_Γ(g) χ(g) / (|G| c_Γ).  A ligand irrep with no metal
 s, p or d partner is non-bonding by symmetry.  SALC vectors of the σ set are

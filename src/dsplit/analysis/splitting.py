@@ -1,0 +1,332 @@
+"""The Splitting stage: Δ measured three ways from a verified ground state.
+
+- ``orbital``: gaps between the manifold's d sets from orbital energies; for open
+  shells from restricted-open (ROKS/ROHF) orbitals, with α and β gaps beside it
+  and always a warning (they are not the splitting).
+- ``state``: ΔSCF — one electron moved from the lower to the upper d set in the
+  same spin, converged with fixed block occupations or maximum overlap (Gilbert,
+  Besley & Gill, J. Phys. Chem. A 112, 13164 (2008)), minus the ground state.
+  Closed shells: the open-shell singlet by the spin-purification sum rule
+  E(S) = 2E(M_S=0 determinant) − E(T) (Ziegler, Rauk & Baerends, Theor. Chim.
+  Acta 43, 261 (1977)).
+- ``excitation``: the lowest TDA roots (CIS for HF; Hirata & Head-Gordon, Chem.
+  Phys. Lett. 314, 291 (1999)) in the symmetry block of the d–d transition,
+  kept when hole and particle are both in the d manifold.
+
+Components of the ΔSCF hole and particle are chosen by d character so that the
+excited determinant is a pure component of the first spin-allowed T2 state:
+in Oh the xy-like t2g → the z²-like eg (B2g × A1g = B2g ⊂ T2g in D4h; xy → x²−y²
+would give A2g ⊂ T1g); in Td the z²-like e → the xy-like t2 (A1 × B2 = B2 ⊂ T2 in
+D2d) — correlation tables, e.g. Atkins, Child & Phillips, Tables for Group
+Theory (from memory).
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from dsplit.models.units import cm1_to_nm, ev_to_cm1, hartree_to_cm1, hartree_to_ev, hartree_to_kjmol
+from dsplit.qc.dcharacter import d_weights, orthogonal_projector
+from dsplit.qc.engine import Calculation, _channels, run_excited
+from dsplit.qc.targeting import orbital_symmetries
+
+#: preferred (hole, particle) d orbitals of the first spin-allowed band, per geometry
+PREFERRED_PAIR = {"octahedral": ("xy", "z2"), "tetrahedral": ("z2", "xy")}
+ROOT_DEGENERACY_EV = 0.02  # roots closer than this count as one band
+D_D_THRESHOLD = 0.5  # weight of manifold→manifold pairs in a root for it to count as d–d
+
+
+def energy_block(delta_hartree: float | None) -> dict[str, float | None]:
+    if delta_hartree is None:
+        return {"delta_eV": None, "delta_cm1": None, "delta_kJmol": None}
+    return {"delta_eV": hartree_to_ev(delta_hartree), "delta_cm1": hartree_to_cm1(delta_hartree),
+            "delta_kJmol": hartree_to_kjmol(delta_hartree)}
+
+
+@dataclass
+class Transition:
+    spin: int  # 0 α, 1 β
+    lower: int  # index of the lower d set
+    upper: int
+    hole: int  # MO index
+    particle: int
+
+
+def geometry_family(cx) -> str:
+    return {"octahedral": "octahedral", "tetrahedral": "tetrahedral"}.get(cx.geometry, cx.geometry)
+
+
+def choose_transition(calc: Calculation) -> Transition | None:
+    """The first d–d excitation in one spin: highest filled lower set → lowest set with room."""
+    cx = calc.complex
+    sets = cx.d_sets
+    per_spin = [calc.target_alpha, calc.target_beta]
+    chans = _channels(calc.mf)
+    projector = orthogonal_projector(calc.mol)
+    for spin in (0, 1):
+        counts = per_spin[spin]
+        for upper in range(len(sets)):
+            if counts[upper] >= sets[upper].degeneracy:
+                continue
+            lowers = [i for i in range(upper) if counts[i] > 0]
+            if not lowers:
+                continue
+            lower = lowers[-1]
+            ch = 0 if len(chans) == 1 else spin
+            c, occ, e = chans[ch]
+            occ_spin = occ / 2.0 if len(chans) == 1 else occ
+            picks = calc.picks[ch]
+            w = d_weights(calc.mol, c, projector)
+            holes = [m for m in picks[lower].mo_indices if occ_spin[m] > 0.5]
+            parts = [m for m in picks[upper].mo_indices if occ_spin[m] < 0.5]
+            if not holes or not parts:
+                continue
+            pref = PREFERRED_PAIR.get(cx.geometry)
+            from dsplit.models.aom import D_ORBITALS
+
+            if pref and pref[0] in sets[lower].orbitals and pref[1] in sets[upper].orbitals:
+                hole = max(holes, key=lambda m: w[D_ORBITALS.index(pref[0]), m])
+                particle = max(parts, key=lambda m: w[D_ORBITALS.index(pref[1]), m])
+            else:
+                hole = max(holes, key=lambda m: e[m])
+                particle = min(parts, key=lambda m: e[m])
+            return Transition(spin, lower, upper, int(hole), int(particle))
+    return None
+
+
+def _excited_occupations(calc: Calculation, tr: Transition, triplet_flip: bool = False):
+    """Per-spin occupation vectors (α, β) over the ground MOs with the electron moved."""
+    chans = _channels(calc.mf)
+    if len(chans) == 1:
+        occ_a = chans[0][1] / 2.0
+        occ_b = occ_a.copy()
+    else:
+        occ_a, occ_b = chans[0][1].copy(), chans[1][1].copy()
+    occ = [occ_a.copy(), occ_b.copy()]
+    if triplet_flip:  # closed shell → M_S = 1 triplet: β hole, α particle
+        occ[1][tr.hole] = 0.0
+        occ[0][tr.particle] = 1.0
+    else:
+        occ[tr.spin][tr.hole] = 0.0
+        occ[tr.spin][tr.particle] = 1.0
+    return occ
+
+
+def state_estimator(calc: Calculation, tr: Transition, folder, progress=None) -> dict[str, Any]:
+    """ΔSCF for the chosen transition (see module docstring)."""
+    t0 = time.perf_counter()
+    ta, tb = list(calc.target_alpha), list(calc.target_beta)
+    exc = [ta, tb]
+    exc[tr.spin][tr.lower] -= 1
+    exc[tr.spin][tr.upper] += 1
+    closed = len(_channels(calc.mf)) == 1 and calc.multiplicity == 1
+    run = run_excited(calc, _excited_occupations(calc, tr), exc[0], exc[1], out_dir=folder, tag="state-mixed"
+                      if closed else "state", progress=progress)
+    labels = [s.label for s in calc.complex.d_sets]
+    out: dict[str, Any] = {"excited_configuration": " ".join(f"{l}^{a + b}" for l, a, b in zip(labels, *exc)),
+                           "transition": f"{labels[tr.lower]} → {labels[tr.upper]} ({'αβ'[tr.spin]})",
+                           "method": run.targeting, "energy_ground_hartree": calc.energy_hartree,
+                           "converged": run.converged, "configuration_verified": run.configuration_verified,
+                           "notes": run.notes + run.warnings}
+    ok = run.ok
+    delta = run.energy_hartree - calc.energy_hartree if ok else None
+    if closed and ok:
+        ta3, tb3 = list(calc.target_alpha), list(calc.target_beta)
+        tb3[tr.lower] -= 1
+        ta3[tr.upper] += 1
+        trip = run_excited(calc, _excited_occupations(calc, tr, triplet_flip=True), ta3, tb3, multiplicity=3,
+                           out_dir=folder, tag="state-triplet", progress=progress)
+        out["energy_mixed_hartree"] = run.energy_hartree
+        out["triplet"] = {"converged": trip.converged, "configuration_verified": trip.configuration_verified,
+                          **energy_block(trip.energy_hartree - calc.energy_hartree if trip.ok else None)}
+        if trip.ok:
+            delta = 2 * run.energy_hartree - trip.energy_hartree - calc.energy_hartree
+            out["spin_purification"] = "E(singlet) = 2E(mixed) − E(triplet)"
+        else:
+            delta = None
+            out["notes"].append("triplet ΔSCF not verified: singlet not purified, no value")
+    out["energy_excited_hartree"] = run.energy_hartree if ok else None
+    out.update(energy_block(delta))
+    out["seconds"] = time.perf_counter() - t0
+    return out
+
+
+def _root_analysis(td, calc: Calculation, table, k: int) -> tuple[float, list[tuple[int, int, int, float]]]:
+    """(weight of manifold→manifold pairs, dominant pairs [(spin, i, a, w)]) of root k."""
+    x = td.xy[k][0]
+    xs = x if isinstance(x, (tuple, list)) else (x,)
+    chans = _channels(calc.mf)
+    total, dd, pairs = 0.0, 0.0, []
+    for spin, xm in enumerate(xs):
+        xm = np.asarray(xm)
+        occ = chans[min(spin, len(chans) - 1)][1]
+        occ_idx = np.where(occ > 0)[0]
+        vir_idx = np.where(occ == 0)[0]
+        man = set(table.channels[min(spin, len(table.channels) - 1)].manifold.indices)
+        w = xm ** 2
+        total += w.sum()
+        for i_loc, a_loc in zip(*np.nonzero(w > 1e-3)):
+            i, a = int(occ_idx[i_loc]), int(vir_idx[a_loc])
+            pairs.append((spin, i, a, float(w[i_loc, a_loc])))
+            if i in man and a in man:
+                dd += float(w[i_loc, a_loc])
+    pairs.sort(key=lambda p: -p[3])
+    return (dd / total if total > 0 else 0.0), pairs[:3]
+
+
+def excitation_estimator(calc: Calculation, table, tr: Transition | None, n_roots: int = 3) -> dict[str, Any]:
+    """Lowest TDA (CIS for HF) roots in the d–d symmetry block; d–d roots kept."""
+    t0 = time.perf_counter()
+    mf = calc.mf
+    notes: list[str] = []
+    try:
+        td = mf.TDA()
+    except Exception as exc:
+        return {**energy_block(None), "notes": [f"TDA not available for this reference ({exc})"]}
+    td.nstates = n_roots
+    td.verbose = 0
+    if tr is not None and calc.mol.symmetry:
+        c = _channels(mf)[0 if len(_channels(mf)) == 1 else tr.spin][0]
+        syms = orbital_symmetries(mf, c)
+        if syms is not None:
+            from pyscf import symm
+
+            hole_ir = symm.irrep_name2id(calc.mol.groupname, syms[tr.hole])
+            part_ir = symm.irrep_name2id(calc.mol.groupname, syms[tr.particle])
+            td.wfnsym = symm.irrep_id2name(calc.mol.groupname, hole_ir ^ part_ir)
+            notes.append(f"roots asked in the {td.wfnsym} block of {calc.mol.groupname} (the d–d transition's)")
+    try:
+        td.kernel()
+    except Exception as exc:  # e.g. a solvent model without a response kernel
+        return {**energy_block(None), "notes": [f"TDA failed ({type(exc).__name__}: {exc})"]}
+    if not all(np.atleast_1d(td.converged)):
+        notes.append("not every TDA root converged; unconverged roots dropped")
+    try:
+        f_osc = td.oscillator_strength()
+    except Exception:
+        f_osc = [None] * len(td.e)
+    roots = []
+    for k, e in enumerate(td.e):
+        if not np.atleast_1d(td.converged)[k]:
+            continue
+        frac, pairs = _root_analysis(td, calc, table, k)
+        labs = []
+        for spin, i, a, w in pairs[:2]:
+            ch = table.channels[min(spin, len(table.channels) - 1)]
+            hl = ch.donor_irreps.get(i, ch.irreps[i])
+            pl = ch.donor_irreps.get(a, ch.irreps[a])
+            labs.append(f"{hl}→{pl}{'αβ'[spin] if len(table.channels) == 2 else ''} ({w:.2f})")
+        e_cm1 = hartree_to_cm1(float(e))
+        roots.append({"energy_eV": hartree_to_ev(float(e)), "energy_cm1": e_cm1, "wavelength_nm": cm1_to_nm(e_cm1),
+                      "oscillator_strength": None if f_osc[k] is None else float(f_osc[k]),
+                      "symmetry": str(getattr(td, "wfnsym", None) or ""), "d_d": frac >= D_D_THRESHOLD,
+                      "d_d_weight": frac, "pairs": labs})
+    dd = [r for r in roots if r["d_d"]]
+    first = None
+    if dd:
+        e0 = dd[0]["energy_eV"]
+        band = [r["energy_eV"] for r in dd if r["energy_eV"] - e0 < ROOT_DEGENERACY_EV]
+        first = float(np.mean(band)) / hartree_to_ev(1.0)
+    else:
+        notes.append("no d–d root among the roots computed: no value")
+    return {**energy_block(first), "method": "CIS" if calc.setup.is_hf else "TDA", "roots": roots, "notes": notes,
+            "seconds": time.perf_counter() - t0}
+
+
+def _set_gap(sets, lower_label: str, upper_label: str) -> float | None:
+    lo = [s for s in sets if s.irrep == lower_label]
+    hi = [s for s in sets if s.irrep == upper_label]
+    if not lo or not hi:
+        return None
+    return (np.mean([s.energy for s in hi]) - np.mean([s.energy for s in lo]))
+
+
+def orbital_estimator(calc: Calculation, table, tr: Transition | None, folder, progress=None) -> dict[str, Any]:
+    """Orbital-energy gaps of the manifold (ROKS/ROHF for open shells; α, β beside)."""
+    t0 = time.perf_counter()
+    labels = [s.label for s in calc.complex.d_sets]
+    if tr is not None:
+        lower, upper = labels[tr.lower], labels[tr.upper]
+    else:
+        lower, upper = labels[0], labels[-1]
+    out: dict[str, Any] = {"gap": f"{upper} − {lower}", "notes": []}
+    per_spin = {}
+    for ch in table.channels:
+        g = _set_gap(ch.manifold.sets, lower, upper)
+        per_spin[ch.spin] = energy_block(g)
+    out["per_spin"] = per_spin
+    if len(table.channels) == 1:
+        out.update(per_spin["restricted"])
+        return out
+    out["warning"] = ("open shell: orbital-energy gaps are not the splitting (α and β gaps differ; occupied and "
+                      "empty levels feel different exchange); use the state estimator")
+    ro = _restricted_open_gap(calc, lower, upper, folder, progress)
+    out.update(ro)
+    out["seconds"] = time.perf_counter() - t0
+    return out
+
+
+def _restricted_open_gap(calc: Calculation, lower: str, upper: str, folder, progress) -> dict[str, Any]:
+    """Gap from ROKS/ROHF orbitals converged from the UKS/UHF density."""
+    from dsplit.analysis.manifold import ligand_field_manifold
+    from dsplit.qc.engine import check_configuration
+    from dsplit.qc.ladder import run_ladder
+    from dsplit.qc.setup import make_mean_field
+
+    mf = make_mean_field(calc.mol, calc.complex, calc.setup, restricted=True)
+    mf.chkfile = str(folder / "restricted-open.chk")
+    mf, _ = run_ladder(mf, calc.mf.make_rdm1(), progress, rungs=("diis", "level-shift"))
+    if not mf.converged:
+        return {**energy_block(None), "restricted_open": "did not converge: no value"}
+    ok, picks, found = check_configuration(mf, calc.complex, orthogonal_projector(calc.mol), calc.target_alpha,
+                                           calc.target_beta)
+    if not ok:
+        return {**energy_block(None), "restricted_open": f"landed in {found}: no value"}
+    e = np.asarray(mf.mo_energy)
+    by_label = {p.label: p.mo_indices for p in picks[0]}
+    if lower not in by_label or upper not in by_label:
+        return {**energy_block(None), "restricted_open": "sets not found"}
+    gap = float(np.mean(e[by_label[upper]]) - np.mean(e[by_label[lower]]))
+    return {**energy_block(gap), "restricted_open": type(mf).__name__}
+
+
+def estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=None) -> dict[str, Any]:
+    """All three estimators, the ligand-field comparison and the fragment levels (result.json keys)."""
+    from dsplit.analysis.fragments import fragment_levels
+    from dsplit.analysis.orbitals import _mol_indices
+    from dsplit.models.bands import band_meaning
+    from dsplit.models.comparison import compare
+
+    t0 = time.perf_counter()
+    tr = choose_transition(calc)
+    family = geometry_family(cx)
+    spin = "high" if calc.multiplicity == cx.counts.multiplicities[-1] else "low"
+    try:
+        meaning = band_meaning(cx.d_count, family, spin)
+        meaning_doc = {"measures_delta_directly": meaning.measures_delta_directly, "text": meaning.text,
+                       "racah_b_enters": meaning.racah_b_enters, "has_spin_allowed_band": meaning.has_spin_allowed_band}
+    except Exception as exc:
+        meaning_doc = {"measures_delta_directly": False, "text": f"no rule for {family} ({exc})",
+                       "racah_b_enters": True, "has_spin_allowed_band": tr is not None}
+    splitting: dict[str, Any] = {"orbital": orbital_estimator(calc, table, tr, folder, progress)}
+    if tr is None:
+        reason = f"d^{cx.d_count} at 2S+1 = {calc.multiplicity}: no spin-allowed d–d excitation"
+        splitting["state"] = {**energy_block(None), "notes": [reason]}
+        splitting["excitation"] = {**energy_block(None), "notes": [reason]}
+    else:
+        splitting["state"] = state_estimator(calc, tr, folder, progress)
+        splitting["excitation"] = excitation_estimator(calc, table, tr)
+    measures = meaning_doc["text"]
+    for name in ("state", "excitation"):
+        splitting[name]["measures"] = measures
+    splitting["orbital"]["measures"] = "one-electron gap between the d sets (not a state energy)"
+    donors = [pl.atom_indices[0] for pl in cx.ligands if pl.ligand.donor != "X"]
+    levels = fragment_levels(calc, _mol_indices(calc, donors),
+                             [np.asarray(pl.direction) for pl in cx.ligands if pl.ligand.donor != "X"])
+    models, checks = compare(spec, cx, calc, table, splitting)
+    return {"splitting": splitting, "band_meaning": meaning_doc, "models": models, "checks": checks,
+            "level_diagram": levels, "splitting_seconds": time.perf_counter() - t0}

@@ -1,0 +1,109 @@
+"""Report stage: result.json document → report.md, report.html and figures in the run folder.
+
+Reporting never recomputes physics: every number comes from the document (unit changes
+through dsplit.models.units).  Each file is written atomically (temporary file in the
+same folder, then os.replace) and the output is deterministic for a given document.
+A figure that cannot be drawn is named in the report instead of aborting the run.
+"""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+from typing import Any, Callable
+
+from dsplit.report import sections_results as res
+from dsplit.report import sections_run as run
+from dsplit.report.blocks import Section, text
+from dsplit.report.markup import to_html, to_markdown
+
+LEVEL_DIAGRAM = "level_diagram"
+SPIN_STATES = "spin_states"
+
+
+def write_atomic(path: Path, data: bytes | str) -> None:
+    """Write a file through a temporary sibling and os.replace (no partial file is ever visible)."""
+    raw = data.encode("utf-8") if isinstance(data, str) else data
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".part")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(raw)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def report_title(doc: dict[str, Any]) -> tuple[str, str]:
+    """(title, subtitle) of the report."""
+    cx, m = doc.get("complex") or {}, doc.get("method") or {}
+    title = f"{text(cx.get('formula'))} — {text(doc.get('name'))}"
+    sub = (f"{text(cx.get('geometry'))}, {run.d_label(cx.get('d_electrons'))}, 2S+1 = {text(doc.get('multiplicity'))}"
+           f" · {text(m.get('theory'))}/{text(m.get('basis'))}")
+    return title, sub + ("" if run.is_result(doc) else " · NOT A RESULT")
+
+
+def build_sections(doc: dict[str, Any], figures: dict[str, str] | None = None,
+                   problems: list[str] | None = None) -> list[Section]:
+    """All report sections in order; ``figures`` maps 'level_diagram'/'spin_states' to PNG file names.
+
+    Splitting, model, check and measured-vs-computed numbers appear only when the
+    run converged and its configuration was verified.
+    """
+    figures = figures or {}
+    ok = run.is_result(doc)
+    parts: list[Section | None] = [run.status_section(doc), run.cautions_section(doc), run.complex_section(doc),
+                                   run.method_section(doc)]
+    if ok:
+        parts += [res.splitting_section(doc), res.models_section(doc), res.checks_section(doc)]
+    parts += [res.measured_section(doc, with_computed=ok)]
+    parts += [res.level_diagram_section(figures.get(LEVEL_DIAGRAM), problems or [])]
+    parts += [run.frontier_section(doc)]
+    if ok:
+        parts += [run.manifold_section(doc)]
+    parts += [res.spin_states_section(doc, figures.get(SPIN_STATES)), res.optimization_section(doc),
+              run.notes_section(doc), run.provenance_section(doc)]
+    return [p for p in parts if p is not None]
+
+
+def _draw(name: str, make: Callable[[dict[str, Any]], Any], doc: dict[str, Any], formats: tuple[str, ...],
+          problems: list[str]) -> dict[str, bytes]:
+    """Figure bytes per format ({} when there is nothing to draw or drawing failed)."""
+    from dsplit.report.figures import figure_bytes, style
+
+    try:
+        with style():
+            fig = make(doc)
+            return {} if fig is None else {f: figure_bytes(fig, f) for f in formats}
+    except Exception as exc:  # a figure bug must not discard a finished calculation
+        problems.append(f"{name} figure could not be drawn: {type(exc).__name__}: {exc}")
+        return {}
+
+
+def write_reports(doc: dict[str, Any], folder: Path) -> list[Path]:
+    """Write report.md, report.html, level_diagram.png/.svg and (with spin states) spin_states.png.
+
+    Returns the paths written, in writing order.
+    """
+    from dsplit.report.figures import level_diagram, spin_state_figure
+
+    folder = Path(folder)
+    problems: list[str] = []
+    drawn = {LEVEL_DIAGRAM: _draw("level diagram", level_diagram, doc, ("png", "svg"), problems),
+             SPIN_STATES: _draw("spin-state", spin_state_figure, doc, ("png",), problems)}
+    written: list[Path] = []
+    for name, formats in drawn.items():
+        for fmt, data in formats.items():
+            path = folder / f"{name}.{fmt}"
+            write_atomic(path, data)
+            written.append(path)
+    figures = {name: f"{name}.png" for name, formats in drawn.items() if "png" in formats}
+    images = {f"{name}.png": formats["png"] for name, formats in drawn.items() if "png" in formats}
+    sections = build_sections(doc, figures, problems)
+    title, subtitle = report_title(doc)
+    for fname, body in (("report.md", to_markdown(title, subtitle, sections)),
+                        ("report.html", to_html(title, subtitle, sections, images))):
+        write_atomic(folder / fname, body)
+        written.append(folder / fname)
+    return written
