@@ -60,7 +60,8 @@ def full_doc(name: str = "coating-sample-2") -> dict[str, Any]:
              {"energy_eV": 3.40, "energy_cm1": ev_to_cm1(3.40), "oscillator_strength": 1.2e-4, "symmetry": "T2g",
               "d_d": True}]
     return {
-        "schema": "dsplit.result", "schema_version": 1, "name": name, "spec": {}, "spec_hash": "ab12",
+        "schema": "dsplit.result", "schema_version": 1, "name": name, "spec_hash": "ab12",
+        "spec": {"experiment": {"measured_bands_cm1": [21000.0], "source": "handbook, from memory"}},
         "complex": {"formula": "[Co(NH3)6]3+", "metal": "Co", "oxidation_state": 3, "charge": 3, "d_electrons": 6,
                     "geometry": "octahedral", "isomer": "only", "point_group": "Oh", "exact_point_group": "D3d",
                     "multiplicity": 1, "multiplicity_source": "ligand-field default (strong field: low spin)",
@@ -88,17 +89,23 @@ def full_doc(name: str = "coating-sample-2") -> dict[str, Any]:
         "point_group": {"labels": "D3d", "donor_set": "Oh", "scf_subgroup": "D2h"},
         "manifold": _manifold("restricted", rows), "manifold_warnings": [], "salcs": None, "label_disagreements": [],
         "splitting": {
-            "orbital": _delta(3.5, "t2g→eg orbital-energy gap (not a state energy)"),
+            "orbital": _delta(3.5, "t2g→eg orbital-energy gap (not a state energy)", gap="eg − t2g", notes=[],
+                              per_spin={"restricted": _delta(3.5, "")}),
             "state": _delta(2.85, "first spin-allowed band ≈ Δo − C", excited_configuration="t2g^5 eg^1",
-                            energy_ground_hartree=-1700.1, energy_excited_hartree=-1700.0, method="ΔSCF (MOM)"),
+                            energy_ground_hartree=-1700.1, energy_excited_hartree=-1700.0, method="ΔSCF (MOM)",
+                            triplet={"converged": True, "configuration_verified": True, "delta_eV": 2.5},
+                            notes=["singlet purified from the triplet"]),
             "excitation": _delta(2.61, "lowest d–d root", roots=roots, warning="TDA, 6 roots"),
         },
         "models": {"aom_fit": {"e_sigma": {"ammine": 7200.0}, "e_pi": {"ammine": 0.0}, "rms": 12.5, "unit": "cm-1",
                                "note": "e_pi fixed"},
                    "predictions": {"set_order": ["t2g", "eg"], "degeneracies": [3, 2], "delta_t_over_delta_o": 4 / 9,
-                                   "cfse": {"LS": -2.4}, "unpaired": {"HS": 4, "LS": 0},
-                                   "spin_only_moment": {"HS": 4.90, "LS": 0.0}, "expected_ground_multiplicity": 1},
-                   "band_meaning": {"text": "¹A1g → ¹T1g: ν1 ≈ Δo − C", "measures_delta_directly": False}},
+                                   "cfse": {"HS": {"configuration": "t2g^4 eg^2", "cfse_delta_units": -0.4,
+                                                   "unpaired": 4, "spin_only_moment_muB": 4.899},
+                                            "LS": {"configuration": "t2g^6 eg^0", "cfse_delta_units": -2.4,
+                                                   "unpaired": 0, "spin_only_moment_muB": 0.0}},
+                                   "expected_ground_multiplicity": 1}},
+        "band_meaning": {"text": "¹A1g → ¹T1g: ν1 ≈ Δo − C", "measures_delta_directly": False},
         "checks": [{"name": "set order", "verdict": "agrees", "numbers": {"predicted": ["t2g", "eg"]},
                     "detail": "same"},
                    {"name": "estimators agree", "verdict": "differs", "numbers": {"relative_spread": 0.29},
@@ -107,7 +114,6 @@ def full_doc(name: str = "coating-sample-2") -> dict[str, Any]:
         "level_diagram": {"metal": [{"label": "Co 3d", "energy_eV": -10.5}, {"label": "Co 4s", "energy_eV": -6.0}],
                           "ligand": [{"label": "σ (a1g+eg+t1u)", "energy_eV": -19.5}, {"label": "lone pairs",
                                                                                         "energy_eV": -16.0}]},
-        "measured": [{"band_cm1": 21000.0, "source": "handbook, from memory"}],
         "spin_states": [
             {"multiplicity": 1, "configuration": "t2g^6 eg^0", "energy_hartree": -1700.1, "relative_kJmol": 0.0,
              "relative_kcalmol": 0.0, "relative_cm1": 0.0, "relative_eV": 0.0, "spin_square": 0.0,
@@ -139,6 +145,8 @@ def open_shell_doc() -> dict[str, Any]:
     doc.update(orbitals=a + b, multiplicity=4, configuration="t2g^3 eg^0", manifold=_manifold("alpha", a)
                + _manifold("beta", b), spin_square=3.76, spin_square_expected=3.75)
     doc["splitting"]["orbital"]["per_spin"] = {"alpha": _delta(3.4, "α gap"), "beta": _delta(3.6, "β gap")}
+    doc["spec"] = {}
+    doc["measured"] = [{"band_cm1": 17400.0, "source": "invented"}]
     return doc
 
 

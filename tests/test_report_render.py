@@ -122,12 +122,32 @@ def test_measured_band_percent_difference() -> None:
     assert f"({100 * (state - 21000.0) / 21000.0:+.1f} %)" in " ".join(row)
 
 
+def test_measured_bands_from_document_or_spec() -> None:
+    # λ/nm = 10⁷ / (ν̃/cm⁻¹), definition of the wavenumber
+    for doc, band in ((full_doc(), 21000.0), (open_shell_doc(), 17400.0)):
+        (sec,) = [s for s in build_sections(doc) if s.title == "Measured bands"]
+        row = sec.blocks[0].rows[0]
+        assert row[:2] == [f"{band:.0f}", f"{1e7 / band:.1f}"]
+
+
 def test_open_shell_report_has_both_spins_and_per_spin_estimator() -> None:
     sections = build_sections(open_shell_doc())
     captions = [b.caption for s in sections for b in s.blocks if isinstance(b, Table)]
     assert "α orbitals around HOMO/LUMO" in captions and "β orbitals around HOMO/LUMO" in captions
     (per_spin,) = _tables(sections, "orbital estimator per spin")
     assert [r[0] for r in per_spin.rows] == ["α", "β"]
+    assert not _tables(build_sections(full_doc()), "orbital estimator per spin")  # closed shell: one gap only
+
+
+def test_cfse_per_spin_state_is_a_table() -> None:
+    # document values: octahedral d6 CFSE −0.4 Δo (HS) and −2.4 Δo (LS), Housecroft & Sharpe,
+    # Inorganic Chemistry — from memory; the report must show them as given, one row per state
+    doc = full_doc()
+    (table,) = _tables(build_sections(doc), "CFSE")
+    cfse = doc["models"]["predictions"]["cfse"]
+    assert [r[0] for r in table.rows] == list(cfse)
+    col = table.headers.index("cfse delta units")
+    assert [r[col] for r in table.rows] == [f"{cfse[k]['cfse_delta_units']:.4g}" for k in cfse]
 
 
 def test_frontier_prefers_donor_irrep_and_shows_subgroup_label() -> None:
@@ -156,7 +176,7 @@ def test_unconverged_spin_state_has_no_energy() -> None:
 
 def test_optional_sections_absent_when_keys_missing() -> None:
     doc = full_doc()
-    for k in ("splitting", "models", "checks", "measured", "spin_states", "functional_spread", "optimization",
+    for k in ("splitting", "models", "checks", "spec", "band_meaning", "spin_states", "functional_spread", "optimization",
               "level_diagram", "manifold"):
         doc.pop(k)
     titles = [s.title for s in build_sections(doc)]

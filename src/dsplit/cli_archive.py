@@ -38,6 +38,7 @@ def _emit(text: str, output: str | None) -> None:
     if output:
         from pathlib import Path
 
+        Path(output).parent.mkdir(parents=True, exist_ok=True)
         Path(output).write_text(text + "\n", encoding="utf-8")
         click.echo(f"wrote {output}", err=True)
     else:
@@ -66,8 +67,9 @@ def list_cmd(selection, archive_dir, sort, limit, columns, fmt) -> None:
     from dsplit.archive.tables import render
 
     root = _root(archive_dir)
-    rows = select_rows(root, ",".join(selection) or None, sort=sort, limit=limit)
     cols = [(c.strip(), c.strip()) for c in columns.split(",")] if columns else LIST_COLUMNS
+    rows = select_rows(root, ",".join(selection) or None, sort=sort, limit=limit,
+                       need_formula=any(k == "formula" for k, _ in cols))
     click.echo(render(rows, cols, fmt))
     if fmt == "text":
         click.echo(f"{len(rows)} run(s)", err=True)

@@ -14,10 +14,24 @@ import numpy as np
 from dsplit.models.units import hartree_to_ev
 
 
-def _valence_shell(labels, atom: int, l_char: str) -> str | None:
-    shells = sorted({sh for a, _s, sh, _c in labels if a == atom and sh.endswith(l_char)},
-                    key=lambda sh: int(sh[:-1]))
-    return shells[-1] if l_char == "s" and shells else (shells[0] if shells else None)
+def _period(z: int) -> int:
+    """Row of the periodic table for atomic number z."""
+    for row, last in enumerate((2, 10, 18, 36, 54, 86, 118), start=1):
+        if z <= last:
+            return row
+    return 7
+
+
+def _shell(labels, atom: int, name: str) -> list[int]:
+    return [i for i, (a, _s, sh, _c) in enumerate(labels) if a == atom and sh == name]
+
+
+def _core_electrons(mol, atom: int) -> int:
+    """Electrons replaced by an ECP on this atom (0 without ECP)."""
+    try:
+        return int(mol.atom_nelec_core(atom))
+    except Exception:
+        return 0
 
 
 def fragment_levels(calc, donor_atoms: list[int], directions: list[np.ndarray]) -> dict:
@@ -34,22 +48,16 @@ def fragment_levels(calc, donor_atoms: list[int], directions: list[np.ndarray]) 
     labels = mol.ao_labels(fmt=False)
     metal_sym = mol.atom_symbol(0)
     out_metal = []
-    for l_char, name in (("d", "d"), ("s", "s"), ("p", "p")):
-        shell = _valence_shell(labels, 0, l_char) if l_char != "p" else None
-        if l_char == "p":  # the valence p shell follows the valence s shell (e.g. 4p after 4s)
-            s_shell = _valence_shell(labels, 0, "s")
-            cand = f"{s_shell[:-1]}p" if s_shell else None
-            shell = cand if any(sh == cand for a, _s, sh, _c in labels if a == 0) else None
-        if shell is None:
-            continue
-        idx = [i for i, (a, _s, sh, _c) in enumerate(labels) if a == 0 and sh == shell]
-        out_metal.append({"label": f"{metal_sym} {shell}", "energy_eV": hartree_to_ev(float(np.mean(np.diag(f)[idx])))})
+    n = _period(int(mol.atom_charge(0)) + _core_electrons(mol, 0))  # valence shell number: 3d metals → 4s, 4p
+    for name in (f"{n - 1}d", f"{n}s", f"{n}p"):
+        idx = _shell(labels, 0, name)
+        if idx:
+            out_metal.append({"label": f"{metal_sym} {name}",
+                              "energy_eV": hartree_to_ev(float(np.mean(np.diag(f)[idx])))})
     sigma, pi = [], []
     for atom, u_dir in zip(donor_atoms, directions):
-        shell = _valence_shell(labels, atom, "p")
-        if shell is None:
-            continue
-        idx = [i for i, (a, _s, sh, _c) in enumerate(labels) if a == atom and sh == shell]
+        z = int(mol.atom_charge(atom)) + _core_electrons(mol, atom)
+        idx = _shell(labels, atom, f"{_period(z)}p")
         if len(idx) != 3:
             continue
         block = f[np.ix_(idx, idx)]  # p order x, y, z in PySCF's spherical p shells

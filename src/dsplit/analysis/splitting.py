@@ -277,7 +277,8 @@ def _restricted_open_gap(calc: Calculation, lower: str, upper: str, folder, prog
     from dsplit.qc.ladder import run_ladder
     from dsplit.qc.setup import make_mean_field
 
-    mf = make_mean_field(calc.mol, calc.complex, calc.setup, restricted=True)
+    mf = make_mean_field(calc.mol, calc.complex, calc.setup, restricted=True, template=calc.mf)
+    mf.conv_tol = 1e-8
     mf.chkfile = str(folder / "restricted-open.chk")
     mf, _ = run_ladder(mf, calc.mf.make_rdm1(), progress, rungs=("diis", "level-shift"))
     if not mf.converged:
@@ -296,6 +297,13 @@ def _restricted_open_gap(calc: Calculation, lower: str, upper: str, folder, prog
 
 def estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=None) -> dict[str, Any]:
     """All three estimators, the ligand-field comparison and the fragment levels (result.json keys)."""
+    from dsplit.qc.engine import quiet_pyscf
+
+    with quiet_pyscf():
+        return _estimate_splitting(spec, cx, calc, table, folder, progress)
+
+
+def _estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=None) -> dict[str, Any]:
     from dsplit.analysis.fragments import fragment_levels
     from dsplit.analysis.orbitals import _mol_indices
     from dsplit.models.bands import band_meaning

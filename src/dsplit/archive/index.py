@@ -10,7 +10,9 @@ ase.db's own lock *file* is off: a killed writer would leave it behind.
 
 from __future__ import annotations
 
+import operator
 import os
+import re
 import sqlite3
 import time
 from pathlib import Path
@@ -128,12 +130,13 @@ def _retry(action):
 
 
 def _upsert(db, atoms, kv: dict[str, Any]) -> int:
-    ids = [row.id for row in db.select(run_id=kv["run_id"], include_data=False)]
-    if len(ids) > 1:
-        db.delete(ids[1:])
-    if ids:
-        return db.write(atoms, key_value_pairs=kv, id=ids[0])
-    return db.write(atoms, key_value_pairs=kv)
+    with db:  # one connection, one transaction
+        ids = [row.id for row in db.select(run_id=kv["run_id"], include_data=False)]
+        if len(ids) > 1:
+            db.delete(ids[1:])
+        if ids:
+            return db.write(atoms, key_value_pairs=kv, id=ids[0])
+        return db.write(atoms, key_value_pairs=kv)
 
 
 def add_run(root: Path, folder: Path, result: dict[str, Any], manifest: dict[str, Any]) -> int:
@@ -156,8 +159,93 @@ def select(root: Path, selection: str | None = None, sort: str | None = None, li
     path = index_path(root)
     if not path.is_file():
         return []
-    db = connect(path)
-    return _retry(lambda: list(db.select(selection or None, sort=sort, limit=limit, include_data=False)))
+    def read() -> list:
+        db = connect(path)
+        with db:  # one connection for all rows (ase.db reconnects per row otherwise)
+            return list(db.select(selection or None, sort=sort, limit=limit, include_data=False))
+
+    return _retry(read)
+
+
+_OPS = {"=": operator.eq, "!=": operator.ne, "<": operator.lt, "<=": operator.le, ">": operator.gt,
+        ">=": operator.ge}
+_WORD = re.compile(r"^[a-z_][_0-9a-zA-Z]*$")  # our keys; capitalised words are element symbols to ase.db
+_ASE_SPECIAL = {"age", "user", "calculator", "natoms", "energy", "magmom", "charge", "formula", "ctime", "mtime",
+                "pbc", "unique_id", "fmax", "smax", "volume", "mass"}
+
+
+def _number_or_text(text: str) -> Any:
+    for cast in (int, float):
+        try:
+            return cast(text)
+        except ValueError:
+            pass
+    return {"True": True, "False": False}.get(text, text)
+
+
+def _simple_selection(selection: str | None) -> list[tuple[str, str, Any]] | None:
+    """``key op value`` terms of a selection, or None if it needs ase.db's own parser."""
+    terms: list[tuple[str, str, Any]] = []
+    for expr in (selection or "").split(","):
+        expr = expr.strip()
+        if not expr:
+            continue
+        op = next((o for o in ("!=", "<=", ">=", "<", ">", "=") if o in expr), None)
+        key, value = expr.split(op, 1) if op else (expr, None)
+        key = key.strip()
+        if not _WORD.match(key) or key in _ASE_SPECIAL or (op and any(o in value for o in "<>=!")):
+            return None
+        terms.append((key, op or "has", None if value is None else _number_or_text(value.strip())))
+    return terms
+
+
+def _matches(kv: dict[str, Any], key: str, op: str, value: Any) -> bool:
+    """ase.db semantics: a row without the key never matches; text compares with text, numbers with numbers."""
+    v = kv.get(key)
+    if v is None:
+        return False
+    if op == "has":
+        return True
+    if isinstance(value, str) or isinstance(v, str):
+        return isinstance(value, str) and isinstance(v, str) and _OPS[op](v, value)
+    return _OPS[op](float(v), float(value))
+
+
+def fast_rows(root: Path, selection: str | None = None, sort: str | None = None,
+              limit: int | None = None) -> list[dict[str, Any]] | None:
+    """Key-value rows read with sqlite3 alone (no ASE import); None if ase.db must answer.
+
+    Same results as ``select`` for selections of our own keys (``key``, ``key=v``,
+    ``!= < <= > >=``) — for element symbols, formulas or ase's special keys it
+    returns None and the caller uses ase.db.
+    """
+    import json
+
+    terms = _simple_selection(selection)
+    skey = (sort or "").lstrip("-")
+    if terms is None or (skey and (not _WORD.match(skey) or skey in _ASE_SPECIAL)):
+        return None
+    path = index_path(root)
+    if not path.is_file():
+        return []
+
+    def read():
+        con = sqlite3.connect(f"file:{path}?mode=ro", uri=True, timeout=20)
+        try:
+            return con.execute("SELECT id, key_value_pairs FROM systems ORDER BY id").fetchall()
+        finally:
+            con.close()
+
+    rows = []
+    for rid, text in _retry(read):
+        kv = json.loads(text)
+        if all(_matches(kv, *t) for t in terms):
+            rows.append({**kv, "id": rid})
+    if skey:
+        have = [r for r in rows if r.get(skey) is not None]
+        have.sort(key=lambda r: (isinstance(r[skey], str), r[skey]), reverse=sort.startswith("-"))
+        rows = have + [r for r in rows if r.get(skey) is None]
+    return rows[:limit] if limit else rows
 
 
 def load_run(folder: Path) -> tuple[dict[str, Any], dict[str, Any]]:

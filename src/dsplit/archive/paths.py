@@ -90,11 +90,17 @@ def run_folder(root: Path, name: str, run_id: str) -> Path:
 
 def key_versions() -> dict[str, str]:
     """Versions that change numbers, hence part of the run-id."""
-    import pyscf
+    from importlib import metadata
 
     import dsplit
 
-    return {"dsplit": dsplit.__version__, "pyscf": pyscf.__version__}
+    try:
+        pyscf_version = metadata.version("pyscf")  # no import of PySCF itself (fast cache hits)
+    except metadata.PackageNotFoundError:  # pragma: no cover - a source checkout of PySCF
+        import pyscf
+
+        pyscf_version = pyscf.__version__
+    return {"dsplit": dsplit.__version__, "pyscf": pyscf_version}
 
 
 def run_id_for(spec_normalised: dict[str, Any], kind: str = "compute", options: dict[str, Any] | None = None,

@@ -32,13 +32,20 @@ COMPARE_COLUMNS: list[Column] = [
 
 
 def select_rows(root: Path, selection: str | None = None, sort: str | None = None,
-                limit: int | None = None) -> list[dict[str, Any]]:
-    """Index rows as dicts; InputError for a bad selection or an unreadable index."""
+                limit: int | None = None, need_formula: bool = False) -> list[dict[str, Any]]:
+    """Index rows as dicts; InputError for a bad selection or an unreadable index.
+
+    Plain key selections are read with sqlite3 alone (fast); element symbols,
+    formulas and ``formula`` as a column go through ase.db.
+    """
     import sqlite3
 
     from dsplit.archive import index
 
     try:
+        fast = None if need_formula else index.fast_rows(root, selection, sort=sort, limit=limit)
+        if fast is not None:
+            return fast
         return index.iter_rows_kv(index.select(root, selection, sort=sort, limit=limit))
     except sqlite3.DatabaseError as exc:
         raise InputError("index.db", f"cannot read the index ({exc}); run 'dsplit archive rebuild-index'") from None

@@ -27,6 +27,7 @@ from dsplit.qc.setup import MethodSetup, build_mole, make_mean_field, memory_est
 from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupation
 
 MAX_STABILITY_FOLLOWS = 2
+EXCITED_CONV_TOL = 1e-8  # Eh; ΔSCF energies are reported to 1e-5 eV at most
 
 
 @dataclass
@@ -197,6 +198,17 @@ def provenance_versions() -> dict[str, str]:
             "scipy": scipy.__version__, "ase": ase.__version__, "python": platform.python_version()}
 
 
+def quiet_pyscf():
+    """Context: PySCF's stdout and its stderr warnings go nowhere (they are in the run's log)."""
+    import contextlib
+    import io
+
+    stack = contextlib.ExitStack()
+    stack.enter_context(contextlib.redirect_stdout(io.StringIO()))
+    stack.enter_context(contextlib.redirect_stderr(io.StringIO()))
+    return stack
+
+
 def run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = None, **kwargs) -> Calculation:
     """Run, stabilise and verify one SCF of ``cx`` (see module docstring).
 
@@ -205,11 +217,8 @@ def run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = None
     ``stability``, ``tag`` (file stem of the log and checkpoint).  PySCF's own
     terminal output (stdout and its stderr warnings) goes to the log only.
     """
-    import contextlib
-    import io
-
     # PySCF writes warnings to stderr as well as to its log: keep them in the log only
-    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+    with quiet_pyscf():
         return _run_calculation(cx, setup, out_dir, **kwargs)
 
 
@@ -328,10 +337,7 @@ def run_excited(ground: Calculation, occupations: list[np.ndarray], target_alpha
     the chosen orbitals occupied.  The result is checked against the target like
     any ground state; no stability analysis (an excited state is a saddle point).
     """
-    import contextlib
-    import io
-
-    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+    with quiet_pyscf():
         return _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, out_dir, tag, progress)
 
 
@@ -349,7 +355,8 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
         mol.spin = mult - 1
         mol.build(False, False)
     unrestricted = len(occupations) == 2
-    mf = make_mean_field(mol, cx, setup, restricted=not unrestricted)
+    mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
+    mf.conv_tol = EXCITED_CONV_TOL
     if out_dir is not None:
         mf.chkfile = str(out_dir / f"{tag}.chk")
     chans = _channels(ground.mf)
@@ -381,7 +388,7 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
     mf, rungs = run_ladder(mf, dm, progress, rungs=("diis", "level-shift"))
     if not mf.converged and method == "irrep_nelec":
         notes.append("block-fixed excited SCF did not converge; retried with maximum overlap")
-        mf = make_mean_field(mol, cx, setup, restricted=not unrestricted)
+        mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
         mf = scf.addons.mom_occ(mf, mo_arr, occ_arr)
         method = "maximum-overlap"
         mf, more = run_ladder(mf, mf.make_rdm1(mo_arr, occ_arr), progress, rungs=("diis", "level-shift"))

@@ -89,7 +89,7 @@ def _run(mf, rung: str, dm0, progress: Progress | None, newton_ok: bool) -> tupl
     if solver is not mf:
         for attr in ("mo_coeff", "mo_occ", "mo_energy", "e_tot", "converged"):
             setattr(mf, attr, getattr(solver, attr))
-    if mf.converged:  # polish: plain SCF from the converged density (no shift left in energies)
+    if mf.converged and rung != "diis":  # polish: plain SCF from the converged density (no shift left)
         _attach_progress(mf, rung, progress)
         mf.kernel(mf.make_rdm1())
     rec = RungRecord(rung, bool(mf.converged), cycles, float(mf.e_tot), _grad_norm(mf),

@@ -160,11 +160,13 @@ def memory_estimate_mb(mol, setup: MethodSetup) -> float:
     return (nao ** 4 / 8) * 8 / 1e6
 
 
-def make_mean_field(mol, cx: Complex, setup: MethodSetup, restricted: bool):
+def make_mean_field(mol, cx: Complex, setup: MethodSetup, restricted: bool, template=None):
     """HF/KS object with DF, point charges and PCM.
 
     ``restricted``: RHF/RKS for closed shells, ROHF/ROKS for open shells;
     otherwise UHF/UKS (also for a spin-0 broken-symmetry determinant).
+    ``template``: a converged mean field of the same molecule whose DFT grids and
+    density-fitting integrals are reused (they do not depend on the state).
     """
     from pyscf import dft, scf
 
@@ -178,8 +180,13 @@ def make_mean_field(mol, cx: Complex, setup: MethodSetup, restricted: bool):
     mf.max_cycle = setup.max_cycles
     mf.conv_tol = 1e-9
     mf.init_guess = "atom"  # superposition of atomic densities
+    if template is not None and not setup.is_hf and getattr(template, "grids", None) is not None:
+        mf.grids = template.grids
     if setup.density_fitting:
         mf = mf.density_fit()
+        tdf = getattr(template, "with_df", None)
+        if tdf is not None and getattr(tdf, "_cderi", None) is not None and tdf.mol is mol:
+            mf.with_df = tdf
     coords, charges = point_charges(cx)
     if len(charges):
         from pyscf import qmmm

@@ -109,6 +109,12 @@ def value(key: str, x: Any) -> str:
     return x if isinstance(x, str) else text(x)
 
 
+def because(shown: Any, reason: Any) -> str:
+    """'value — reason', or just the value when no reason is given."""
+    shown = shown if isinstance(shown, str) else text(shown)
+    return f"{shown} — {reason}" if reason else shown
+
+
 def key_values(pairs: list[tuple[str, Any]], caption: str = "") -> Table:
     """A two-column table of the pairs whose value is present."""
     rows = [[k, value(k, v)] for k, v in pairs if v is not None and v != ""]

@@ -149,7 +149,7 @@ def _draw_column(ax: Axes, x: float, sets: list[LevelSet], spin: str, gap: float
     ext = []
     for s in sets:
         n = len(s.orbitals)
-        bw = min(0.22, 0.72 / n)
+        bw = min(0.3, 0.9 / n) if spin == "restricted" else min(0.22, 0.72 / n)
         total = n * bw + (n - 1) * 0.04
         x0 = x - total / 2
         if s.manifold:

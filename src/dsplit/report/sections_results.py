@@ -14,8 +14,8 @@ from dsplit.report.blocks import (MISSING, Image, Items, Para, Section, Table, i
                                   unit, value)
 
 ESTIMATORS = ("orbital", "state", "excitation")
-_DELTA_KEYS = {"delta_eV", "delta_cm1", "delta_kJmol", "measures", "warning", "warnings", "roots", "per_spin"}
-_WARN_KEYS = ("warning", "warnings", "reason", "error")
+_WARN_KEYS = ("warning", "warnings", "reason", "error", "notes")
+_DELTA_KEYS = {"delta_eV", "delta_cm1", "delta_kJmol", "measures", "roots", "per_spin", *_WARN_KEYS}
 
 
 def wavenumber(entry: dict[str, Any], cm1_key: str = "delta_cm1", ev_key: str = "delta_eV") -> float | None:
@@ -72,9 +72,11 @@ def splitting_section(doc: dict[str, Any]) -> Section | None:
     blocks.append(Para("orbital: gap of the ligand-field orbital energies; state: ΔSCF energy of one d electron "
                        "moved to the upper set; excitation: TDDFT/TDA d–d excitation. The wavelength is the vacuum "
                        "wavelength λ = 1/ν̃ of a band at Δ.", "note"))
+    if doc.get("estimators_failed"):
+        blocks.append(Para(f"estimators that failed: {text(doc['estimators_failed'])}", "warning"))
     for name, e in entries:
         per_spin = e.get("per_spin")
-        if isinstance(per_spin, dict) and per_spin:
+        if isinstance(per_spin, dict) and set(per_spin) - {"restricted"}:
             rows = [_delta_row({"alpha": "α", "beta": "β"}.get(s, s), v) if isinstance(v, dict)
                     else [s, text(v)] + [MISSING] * 5 for s, v in per_spin.items()]
             blocks.append(Table(["spin"] + _DELTA_HEADERS, rows, f"{name} estimator per spin"))
@@ -91,10 +93,12 @@ def roots_table(roots: list[dict[str, Any]]) -> Table:
     rows = []
     for i, r in enumerate(roots, 1):
         cm1 = wavenumber(r, "energy_cm1", "energy_eV")
+        dd = {True: "yes", False: "no"}.get(r.get("d_d"), MISSING)
+        if is_number(r.get("d_d_weight")):
+            dd += f" ({pct(r['d_d_weight'])} %)"
         rows.append([str(i), num(r.get("energy_eV"), 3), num(cm1, 0), wavelength_text(cm1),
-                     num(r.get("oscillator_strength"), 5), text(r.get("symmetry")),
-                     {True: "yes", False: "no"}.get(r.get("d_d"), MISSING)])
-    return Table(["root", "E / eV", "ν̃ / cm⁻¹", "λ / nm", "f", "symmetry", "d–d"], rows,
+                     num(r.get("oscillator_strength"), 5), text(r.get("symmetry") or None), dd])
+    return Table(["root", "E / eV", "ν̃ / cm⁻¹", "λ / nm", "f", "symmetry", "d–d (d-manifold weight)"], rows,
                  "predicted bands (excitation estimator)")
 
 
@@ -108,6 +112,26 @@ _PREDICTION_NAMES = {
     "unpaired": "unpaired electrons", "spin_only_moment": "spin-only moment / μB",
     "expected_ground_multiplicity": "expected ground multiplicity 2S+1",
 }
+
+
+def _is_record_map(x: Any) -> bool:
+    return isinstance(x, dict) and bool(x) and all(isinstance(v, dict) for v in x.values())
+
+
+def record_map_table(records: dict[str, dict[str, Any]], caption: str) -> Table:
+    """{row name: {column: value}} as a table (e.g. CFSE per HS / LS)."""
+    keys = list(dict.fromkeys(k for r in records.values() for k in r))
+    return Table([""] + [k.replace("_", " ") for k in keys],
+                 [[str(name)] + [value(k, r.get(k)) for k in keys] for name, r in records.items()], caption)
+
+
+def measured_bands(doc: dict[str, Any]) -> list[dict[str, Any]]:
+    """doc['measured'] ([{band_cm1, ...}]), else the spec's experiment.measured_bands_cm1."""
+    if doc.get("measured"):
+        return [b if isinstance(b, dict) else {"band_cm1": b} for b in doc["measured"]]
+    exp = (doc.get("spec") or {}).get("experiment") or {}
+    src = exp.get("source") or None
+    return [{"band_cm1": b, "source": src} for b in exp.get("measured_bands_cm1") or []]
 
 
 def models_section(doc: dict[str, Any]) -> Section | None:
@@ -128,9 +152,11 @@ def models_section(doc: dict[str, Any]) -> Section | None:
         blocks.append(Para(f"angular overlap model fit: {text(fit)}", "note"))
     pred = models.get("predictions")
     if isinstance(pred, dict):
-        blocks.append(key_values([(_PREDICTION_NAMES.get(k, k.replace("_", " ")), v) for k, v in pred.items()],
-                                 "ligand-field predictions"))
-    meaning = models.get("band_meaning")
+        nested = {k: v for k, v in pred.items() if _is_record_map(v)}
+        blocks.append(key_values([(_PREDICTION_NAMES.get(k, k.replace("_", " ")), v) for k, v in pred.items()
+                                  if k not in nested], "ligand-field predictions"))
+        blocks += [record_map_table(v, _PREDICTION_NAMES.get(k, k.replace("_", " "))) for k, v in nested.items()]
+    meaning = models.get("band_meaning") or doc.get("band_meaning")
     if meaning:
         what = meaning.get("text") if isinstance(meaning, dict) else meaning
         blocks.append(Para(f"first band: {text(what)}"))
@@ -154,20 +180,19 @@ def checks_section(doc: dict[str, Any]) -> Section | None:
 
 
 def measured_section(doc: dict[str, Any], with_computed: bool) -> Section | None:
-    bands = doc.get("measured")
+    bands = measured_bands(doc)
     if not bands:
         return None
     ests = [(k, wavenumber(e)) for k, e in estimator_entries(doc)] if with_computed else []
     ests = [(k, c) for k, c in ests if c is not None]
     rows = []
     for b in bands:
-        b = b if isinstance(b, dict) else {"band_cm1": b}
         m = b.get("band_cm1")
         row = [num(m, 0), wavelength_text(m) if is_number(m) else MISSING,
                num(cm1_to_ev(m), 3) if is_number(m) else MISSING]
         for _, c in ests:
             row.append(f"{num(c, 0)} ({100.0 * (c - m) / m:+.1f} %)" if is_number(m) and m else num(c, 0))
-        row.append(text({k: v for k, v in b.items() if k != "band_cm1"} or None))
+        row.append(text({k: v for k, v in b.items() if k != "band_cm1" and v is not None} or None))
         rows.append(row)
     headers = ["measured ν̃ / cm⁻¹", "λ / nm", "E / eV"] + [f"{k} Δ / cm⁻¹ (vs measured)" for k, _ in ests] + ["source"]
     blocks: list = [Table(headers, rows)]

@@ -8,7 +8,7 @@ from __future__ import annotations
 from collections import Counter
 from typing import Any
 
-from dsplit.report.blocks import MISSING, Items, Para, Section, Table, key_values, num, pct, text
+from dsplit.report.blocks import MISSING, Items, Para, Section, Table, because, key_values, num, pct, text
 
 SPIN_ORDER = ("restricted", "alpha", "beta")
 SPIN_NAMES = {"restricted": "restricted", "alpha": "α", "beta": "β"}
@@ -89,10 +89,10 @@ def complex_section(doc: dict[str, Any]) -> Section:
         ("point group of the donor set", cx.get("point_group")),
         ("exact point group", cx.get("exact_point_group")),
         ("group used for orbital labels", pg.get("labels")),
-        ("multiplicity 2S+1", f"{text(mult)} — {text(cx.get('multiplicity_source'))}"),
+        ("multiplicity 2S+1", because(mult, cx.get("multiplicity_source"))),
         ("allowed multiplicities", cx.get("multiplicities")),
-        ("target configuration", f"{text(doc.get('configuration_target') or cx.get('configuration_target'))}"
-                                 f" — {text(cx.get('configuration_source'))}"),
+        ("target configuration", because(doc.get("configuration_target") or cx.get("configuration_target"),
+                                         cx.get("configuration_source"))),
         ("configuration found", doc.get("configuration")),
         ("high-spin / low-spin configuration",
          f"{text(cx.get('high_spin_configuration'))} / {text(cx.get('low_spin_configuration'))}"
@@ -115,20 +115,15 @@ def method_section(doc: dict[str, Any]) -> Section:
     scf = doc.get("scf") or {}
     stab = scf.get("stability") or {}
 
-    def with_reason(value: str, key: str) -> str:
-        return f"{value} — {why[key]}" if why.get(key) else value
-
     exx = m.get("exact_exchange")
-    solvent = "gas phase" if not sol.get("name") else (
-        f"{sol['name']} (ε = {num(sol.get('epsilon'), 2)}, {text(sol.get('model'))})")
-    if sol.get("reason"):
-        solvent += f" — {sol['reason']}"
+    solvent = because("gas phase" if not sol.get("name") else
+                      f"{sol['name']} (ε = {num(sol.get('epsilon'), 2)}, {text(sol.get('model'))})", sol.get("reason"))
     df = m.get("density_fitting")
     pairs: list[tuple[str, Any]] = [
-        ("theory", with_reason(text(m.get("theory")) + (f" (exact exchange {pct(exx)} %)" if exx is not None else ""),
-                               "theory")),
-        ("basis", with_reason(text(m.get("basis")), "basis")),
-        ("ECP", with_reason(_ecp_text(m), "ecp")),
+        ("theory", because(text(m.get("theory")) + (f" (exact exchange {pct(exx)} %)" if exx is not None else ""),
+                           why.get("theory"))),
+        ("basis", because(m.get("basis"), why.get("basis"))),
+        ("ECP", because(_ecp_text(m), why.get("ecp"))),
         ("density fitting", (f"yes ({text(m.get('auxbasis'))})" if df else "no") if df is not None else None),
         ("solvent", solvent),
         ("reference", m.get("reference")),

@@ -99,7 +99,7 @@ def summary_rows(outcome: StudyOutcome) -> list[dict[str, Any]]:
     from dsplit.archive import index
 
     by_task = {o["run_id"]: o for o in outcome.outcomes}
-    rows_by_id = {r["run_id"]: r for r in index.iter_rows_kv(index.select(outcome.archive))}
+    rows_by_id = {r.get("run_id"): r for r in index.fast_rows(outcome.archive) or []}
     out = []
     for t in outcome.plan.tasks:
         o = by_task.get(t.run_id)

@@ -86,6 +86,7 @@ def _run_serial(tasks, archive: str, threads: int, report: Callable) -> None:
 def _run_pool(tasks, archive: str, workers: int, threads: int, report: Callable) -> None:
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures.process import BrokenProcessPool
 
     pool = ProcessPoolExecutor(max_workers=workers, mp_context=mp.get_context("spawn"),
                                initializer=_init_worker, initargs=(threads,))
@@ -93,13 +94,18 @@ def _run_pool(tasks, archive: str, workers: int, threads: int, report: Callable)
         futures = [pool.submit(execute_task, t.spec, t.run_id, archive, threads) for t in tasks]
         for f in as_completed(futures):
             report(f.result())
+    except BrokenProcessPool as exc:
+        pool.shutdown(wait=False, cancel_futures=True)
+        raise RuntimeError("a study worker process died or could not start; a script that runs a study with "
+                           "more than one worker needs an `if __name__ == '__main__':` guard "
+                           "(multiprocessing 'spawn')") from exc
     except BaseException:
         pool.shutdown(wait=False, cancel_futures=True)
         raise
     pool.shutdown(wait=True)
 
 
-def dask_client(scheduler: str | None, workers: int):
+def dask_client(scheduler: str | None, workers: int, timeout: str = "15s"):
     """A distributed.Client: to ``scheduler``, or to a LocalCluster of processes on 127.0.0.1."""
     try:
         import logging
@@ -110,7 +116,7 @@ def dask_client(scheduler: str | None, workers: int):
                                        "(dask and distributed)") from None
     if scheduler:
         try:
-            return Client(scheduler, timeout="15s"), None
+            return Client(scheduler, timeout=timeout), None
         except (OSError, TimeoutError, ValueError) as exc:
             raise InputError("--scheduler", f"cannot reach the Dask scheduler at {scheduler!r} ({exc})") from None
     cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",

@@ -1,0 +1,130 @@
+"""An ASE calculator that runs dsplit's verified PySCF engine: energy and forces.
+
+``DsplitCalculator`` is an ``ase.calculators.calculator.Calculator``: attach it
+to any ``ase.Atoms`` with the same atoms (same order) as the template Complex
+and every ASE tool (optimisers, ``ase.calculators.test`` finite differences,
+vibrations) can use it.  Each evaluation is one ``run_calculation`` (SCF ladder,
+stability on the first call only, configuration check) started from the
+previous evaluation's checkpoint, followed by PySCF's analytic nuclear gradient
+(including the PCM term when a solvent is on).
+
+Units: PySCF gives E in Hartree and ∂E/∂R in Hartree/Bohr; ASE wants eV and
+eV/Å, so E·``ase.units.Hartree`` and F = −∂E/∂R·``Hartree/Bohr`` (CODATA via ASE).
+An SCF that fails to converge or lands in another d configuration raises
+``CalculationError``: an optimiser must never walk on an unverified surface.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+from ase.calculators.calculator import Calculator, all_changes
+from ase.units import Bohr, Hartree
+
+from dsplit.complex import Complex
+from dsplit.errors import CalculationError, InputError
+
+
+def complex_at(cx: Complex, positions: np.ndarray) -> Complex:
+    """A copy of ``cx`` with new Cartesian positions (Å); ligand distances updated from the donors."""
+    atoms = cx.atoms.copy()
+    atoms.positions = np.asarray(positions, dtype=float)
+    centre = atoms.positions[cx.metal_index]
+    ligands = [replace(pl, distance=float(np.linalg.norm(atoms.positions[pl.atom_indices[0]] - centre)))
+               for pl in cx.ligands]
+    return replace(cx, atoms=atoms, ligands=ligands)
+
+
+def check_gradient_support(cx: Complex) -> None:
+    """InputError if analytic forces of this complex are not available (point-charge donors)."""
+    if any(pl.ligand.donor == "X" for pl in cx.ligands):
+        raise InputError("complex.ligands", "'point' donors are fixed point charges without nuclei; "
+                                            "geometry optimisation needs real ligand atoms")
+
+
+def nuclear_gradient(calc) -> np.ndarray:
+    """∂E/∂R in Hartree/Å for every atom of ``calc.complex`` (PySCF analytic gradient, incl. PCM).
+
+    When PySCF cannot symmetrise the gradient in the group it ran in, the raw gradient
+    is used (from a symmetric density it is symmetric to numerical precision).
+    """
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        grad = calc.mf.nuc_grad_method()
+        grad.verbose = calc.mf.verbose
+        try:
+            de = grad.kernel()
+        except Exception as exc:  # PySCF's own symmetrisation can fail on a subgroup (e.g. Td run in D2)
+            if "ymmetry" not in str(exc) and "ymmetry" not in type(exc).__name__:
+                raise
+            grad.symmetrize = lambda de, atmlst=None: de
+            de = grad.kernel()
+        de = np.asarray(de, dtype=float)
+    if de.shape != calc.complex.atoms.positions.shape:
+        raise CalculationError(f"gradient has shape {de.shape}, expected {calc.complex.atoms.positions.shape}")
+    return de / Bohr
+
+
+class DsplitCalculator(Calculator):
+    """ASE calculator over dsplit's engine (see module docstring).
+
+    ``template``: the Complex whose charge, multiplicity, d sets and ligand map
+    apply; ``setup``: a resolved MethodSetup; ``folder``: where logs and
+    checkpoints go (``tag``-NNN.log/.chk), None for no files; ``multiplicity`` /
+    ``target_occupations``: the state to follow; ``start_from``: a first checkpoint.
+    """
+
+    implemented_properties = ["energy", "forces"]
+
+    def __init__(self, template: Complex, setup, folder: Path | None = None, *, multiplicity: int | None = None,
+                 target_occupations: list[int] | None = None, start_from: Path | None = None,
+                 tag: str = "step", keep_checkpoints: bool = False, progress=None, **kwargs) -> None:
+        super().__init__(**kwargs)
+        check_gradient_support(template)
+        self.template = template
+        self.setup = setup
+        self.folder = Path(folder) if folder is not None else None
+        self.multiplicity = multiplicity
+        self.target_occupations = target_occupations
+        self.start_from = Path(start_from) if start_from is not None else None
+        self.tag = tag
+        self.keep_checkpoints = keep_checkpoints
+        self.progress = progress
+        self.calculations: list = []  # one finished Calculation per evaluation
+        self.gradients: list[np.ndarray] = []  # Hartree/Å, one per evaluation
+
+    @property
+    def last(self):
+        return self.calculations[-1] if self.calculations else None
+
+    def evaluate(self, positions: np.ndarray):
+        """Verified SCF + analytic gradient at ``positions`` (Å); returns (Calculation, ∂E/∂R in Eh/Å)."""
+        from dsplit.qc.engine import run_calculation
+
+        cx = complex_at(self.template, positions)
+        n = len(self.calculations)
+        prev = self.last.chk_path if self.last is not None else self.start_from
+        calc = run_calculation(cx, self.setup, self.folder, multiplicity=self.multiplicity,
+                               target_occupations=self.target_occupations, start_from=prev,
+                               stability=n == 0, progress=self.progress, tag=f"{self.tag}-{n:03d}")
+        if not calc.ok:
+            self.calculations.append(calc)
+            raise CalculationError(f"evaluation {n}: " + ("; ".join(calc.warnings) or "SCF not verified"))
+        g = nuclear_gradient(calc)
+        if not self.keep_checkpoints and prev is not None and prev != self.start_from and Path(prev).is_file():
+            Path(prev).unlink()
+        self.calculations.append(calc)
+        self.gradients.append(g)
+        return calc, g
+
+    def calculate(self, atoms=None, properties=("energy",), system_changes=all_changes) -> None:
+        super().calculate(atoms, properties, system_changes)
+        if list(self.atoms.get_chemical_symbols()) != list(self.template.atoms.get_chemical_symbols()):
+            raise InputError("atoms", "the atoms differ from the complex this calculator was made for")
+        calc, g = self.evaluate(self.atoms.positions)
+        self.results["energy"] = calc.energy_hartree * Hartree
+        self.results["free_energy"] = self.results["energy"]
+        self.results["forces"] = -g * Hartree

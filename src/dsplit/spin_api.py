@@ -1,0 +1,330 @@
+"""Python API behind ``dsplit spin-states`` and ``dsplit optimize``.
+
+Spin-state ladder: every allowed multiplicity 2S+1 of dⁿ (or a chosen list), each in
+its ligand-field configuration (chem.counting.configuration_occupations), as one
+verified SCF (optionally after a symmetric optimisation of that state), for one or
+several functionals.  Relative energies are E − E_lowest of the same functional in
+kJ/mol, kcal/mol (thermochemical calorie, scipy.constants.calorie), cm⁻¹ and eV.
+
+Spin contamination: deviation = ⟨S²⟩ − S(S+1); a state is flagged when
+|deviation| > max(CONTAMINATION_FLOOR, CONTAMINATION_RELATIVE · S(S+1)), i.e. more
+than 10 % of S(S+1) or 0.1 absolute for S = 0 and ½ (common practice).
+
+Predicted ground state: the spectrochemical default multiplicity rule
+(chem.spin_default.default_multiplicity — rules of thumb, no Δ or pairing energy is
+estimated), compared with the computed lowest state by models.checks.spin_state_check.
+
+Reuse: every state starts its SCF from a checkpoint where one fits: the same
+multiplicity of the previous functional, else the previous multiplicity of this
+functional (same electron count; the engine falls back to atoms when it does not fit).
+"""
+
+from __future__ import annotations
+
+import re
+import shutil
+import tempfile
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any, Callable
+
+from dsplit.errors import InputError
+from dsplit.spec import Spec
+
+CONTAMINATION_RELATIVE = 0.10
+CONTAMINATION_FLOOR = 0.10
+
+
+@dataclass
+class StateRun:
+    """One spin state of one functional: its SCF (and optimisation) and where its files are."""
+
+    theory: str
+    exact_exchange: float
+    multiplicity: int
+    configuration: str
+    calculation: Any  # engine Calculation (None if never run)
+    optimization: Any  # OptimizationResult or None
+    distances: dict[str, float]
+    folder: str
+
+    @property
+    def ok(self) -> bool:
+        good = self.calculation is not None and self.calculation.ok
+        return good and (self.optimization is None or self.optimization.converged)
+
+    @property
+    def energy(self) -> float | None:
+        return self.calculation.energy_hartree if self.calculation is not None and self.calculation.converged else None
+
+
+def spin_contamination(spin_square: float, multiplicity: int) -> tuple[float, float, bool]:
+    """(S(S+1), ⟨S²⟩ − S(S+1), flagged) with the threshold of the module docstring."""
+    s = (multiplicity - 1) / 2
+    expected = s * (s + 1)
+    dev = spin_square - expected
+    return expected, dev, abs(dev) > max(CONTAMINATION_FLOOR, CONTAMINATION_RELATIVE * expected)
+
+
+def relative_energies(delta_hartree: float) -> dict[str, float]:
+    """ΔE in kJ/mol, kcal/mol, cm⁻¹, eV (CODATA via models.units; 1 cal = scipy.constants.calorie J)."""
+    from scipy.constants import calorie
+
+    from dsplit.models.units import hartree_to_cm1, hartree_to_ev, hartree_to_kjmol
+
+    kj = hartree_to_kjmol(delta_hartree)
+    return {"relative_kJmol": kj, "relative_kcalmol": kj / calorie, "relative_cm1": hartree_to_cm1(delta_hartree),
+            "relative_eV": hartree_to_ev(delta_hartree)}
+
+
+def parse_multiplicities(text: str | None, d_count: int) -> list[int]:
+    """'1,5' → [1, 5] (ascending, unique); every value must be allowed for dⁿ; None → all allowed."""
+    from dsplit.chem.counting import allowed_multiplicities
+
+    allowed = allowed_multiplicities(d_count)
+    if text is None:
+        return allowed
+    out: list[int] = []
+    for part in str(text).split(","):
+        part = part.strip()
+        if not part.isdigit():
+            raise InputError("--multiplicities", f"cannot read '{part}'; write e.g. 1,5")
+        out.append(int(part))
+    bad = [m for m in out if m not in allowed]
+    if bad:
+        raise InputError("--multiplicities", f"{', '.join(map(str, bad))} not allowed for d^{d_count}; "
+                                             f"allowed: {', '.join(map(str, allowed))}")
+    return sorted(set(out))
+
+
+def parse_functionals(text: str | None, default: str) -> list[str]:
+    """'HF,PBE,B3LYP' → names checked with qc.setup.check_theory (InputError for an unknown one)."""
+    from dsplit.qc.setup import check_theory
+
+    names = [default] if text is None else [p.strip() for p in str(text).split(",") if p.strip()]
+    if not names:
+        raise InputError("--functionals", "give at least one functional, e.g. HF,PBE,B3LYP")
+    out = []
+    for n in names:
+        try:
+            out.append(check_theory(n)[0])
+        except InputError as exc:
+            raise InputError("--functionals", exc.message) from None
+    return list(dict.fromkeys(out))
+
+
+def predicted_ground(cx) -> tuple[int, str]:
+    """Ligand-field expectation of the ground multiplicity (spectrochemical default rule)."""
+    from dsplit.chem.spin_default import default_multiplicity
+
+    return default_multiplicity(cx.counts.multiplicities, cx.metal.row, cx.geometry, cx.d_count,
+                                cx.oxidation_state, [pl.ligand.key for pl in cx.ligands])
+
+
+def _slug(text: str) -> str:
+    return re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-") or "theory"
+
+
+def _usable(run: StateRun | None) -> Path | None:
+    if run is None or run.calculation is None or not run.calculation.converged:
+        return None
+    chk = run.calculation.chk_path
+    return chk if chk is not None and Path(chk).is_file() else None
+
+
+def run_ladder(cx, setups: list, folder: Path, multiplicities: list[int], *, optimize: bool = False,
+               reuse: bool = True, progress: Callable | None = None, threshold: float | None = None,
+               max_steps: int | None = None) -> list[StateRun]:
+    """All states × functionals (functional-major order), files under ``folder/states``."""
+    from dsplit.chem.counting import configuration_occupations, format_configuration
+    from dsplit.qc.engine import run_calculation
+    from dsplit.qc.optimize import ligand_sets, optimize_symmetric, set_distances
+
+    sets = ligand_sets(cx)
+    start_distances = {s.label: float(r) for s, r in zip(sets, set_distances(cx, sets))}
+    runs: list[StateRun] = []
+    previous: dict[int, StateRun] = {}  # multiplicity → run of the previous functional
+    opt_kw = {k: v for k, v in (("threshold", threshold), ("max_steps", max_steps)) if v is not None}
+    for setup in setups:
+        last: StateRun | None = None
+        for m in multiplicities:
+            occ = configuration_occupations(cx.d_sets, cx.d_count, m)
+            name = f"{_slug(setup.theory)}-m{m}"
+            sub = folder / "states" / name
+            start = (_usable(previous.get(m)) or _usable(last)) if reuse else None
+            opt = None
+            if progress is not None and hasattr(progress, "stage"):
+                progress.stage(f"{setup.theory} 2S+1 = {m}")
+            if optimize:
+                opt = optimize_symmetric(cx, setup, sub, multiplicity=m, target_occupations=occ, start_from=start,
+                                         progress=progress, **opt_kw)
+                calc, dist = opt.calculation, (opt.steps[-1].distances if opt.steps else start_distances)
+            else:
+                calc = run_calculation(cx, setup, sub, multiplicity=m, target_occupations=occ, start_from=start,
+                                       progress=progress)
+                dist = start_distances
+            run = StateRun(setup.theory, setup.exact_exchange, m, format_configuration(cx.d_sets, occ), calc, opt,
+                           dist, f"states/{name}")
+            runs.append(run)
+            last = run
+            previous[m] = run
+    return runs
+
+
+def _state_json(run: StateRun, lowest: float | None) -> dict[str, Any]:
+    calc = run.calculation
+    ss = calc.spin_square()[0] if calc is not None and calc.converged else None
+    expected, dev, flagged = spin_contamination(ss if ss is not None else float("nan"), run.multiplicity)
+    rel = relative_energies(run.energy - lowest) if run.ok and lowest is not None else dict.fromkeys(
+        ("relative_kJmol", "relative_kcalmol", "relative_cm1", "relative_eV"))
+    out = {"theory": run.theory, "exact_exchange": run.exact_exchange, "multiplicity": run.multiplicity,
+           "configuration": run.configuration,
+           "configuration_found": calc.configuration_found if calc is not None else None,
+           "energy_hartree": run.energy if run.ok else None, **rel,
+           "spin_square": ss, "spin_square_expected": expected,
+           "spin_square_deviation": dev if ss is not None else None,
+           "spin_contaminated": flagged if ss is not None else None,
+           "distances": run.distances, "converged": bool(calc is not None and calc.converged),
+           "configuration_verified": bool(calc is not None and calc.configuration_verified),
+           "verified": run.ok, "folder": run.folder,
+           "warnings": list(calc.warnings) if calc is not None else ["not run"],
+           "scf_seconds": calc.timings.get("wall") if calc is not None else None}
+    if run.optimization is not None:
+        o = run.optimization.to_json()
+        o.pop("history", None)
+        out["optimization"] = o
+    return out
+
+
+def ladder_json(runs: list[StateRun], cx) -> dict[str, Any]:
+    """spin_states, ground_multiplicity, functional_spread, spin_prediction and the check."""
+    from dsplit.models.checks import spin_state_check
+    from dsplit.models.units import hartree_to_kjmol
+
+    theories = list(dict.fromkeys(r.theory for r in runs))
+    states, spread, grounds = [], [], {}
+    for t in theories:
+        mine = [r for r in runs if r.theory == t]
+        good = [r for r in mine if r.ok]
+        lowest = min((r.energy for r in good), default=None)
+        states += [_state_json(r, lowest) for r in mine]
+        grounds[t] = min(good, key=lambda r: r.energy).multiplicity if good and len(good) == len(mine) else None
+        hs, ls = max(mine, key=lambda r: r.multiplicity), min(mine, key=lambda r: r.multiplicity)
+        delta = hartree_to_kjmol(hs.energy - ls.energy) if hs is not ls and hs.ok and ls.ok else None
+        spread.append({"theory": t, "exact_exchange": mine[0].exact_exchange, "delta_hs_ls_kJmol": delta,
+                       "high_spin": hs.multiplicity, "low_spin": ls.multiplicity, "ground_multiplicity": grounds[t]})
+    ground = grounds[theories[0]]
+    pred, why = predicted_ground(cx)
+    computed = {r.multiplicity for r in runs}
+    check = spin_state_check(ground, pred if pred in computed else None)
+    doc: dict[str, Any] = {
+        "spin_states": states, "ground_multiplicity": ground, "ground_theory": theories[0],
+        "spin_prediction": {"multiplicity": pred, "reason": why, "source": "spectrochemical default rule "
+                            "(dsplit.chem.spin_default; rules of thumb, common practice)"},
+        "functional_spread": spread if len(theories) > 1 else [],
+        "spin_contamination_rule": f"|⟨S²⟩ − S(S+1)| > max({CONTAMINATION_FLOOR}, "
+                                   f"{CONTAMINATION_RELATIVE:.0%} of S(S+1))",
+        "checks": [{"name": check.name, "verdict": check.verdict, "numbers": check.numbers, "detail": check.detail}],
+    }
+    if ground is None:
+        doc["ground_withheld"] = "at least one state did not converge or was not verified"
+    return doc
+
+
+def _main_run(runs: list[StateRun], ground: int | None) -> StateRun:
+    first = [r for r in runs if r.theory == runs[0].theory]
+    return next((r for r in first if r.multiplicity == ground), None) or next((r for r in first if r.ok), first[0])
+
+
+def _prepare(spec: Spec, threads: int | None, memory_mb: int | None):
+    from dsplit.compute_api import preflight
+
+    return preflight(spec, threads, memory_mb)
+
+
+def _finish(spec: Spec, cx, calc, extra: dict[str, Any], tmp_dir: Path, out_dir: Path, write_reports: bool):
+    """result.json + spec.json + geometry.xyz (+ reports) into tmp_dir, then rename into place."""
+    from dsplit.build_api import write_geometry
+    from dsplit.compute_api import _replace_dir, write_json_atomic
+    from dsplit.report.result import build_result
+
+    doc = build_result(spec, cx, calc, None, extra)
+    write_geometry(cx, tmp_dir / "geometry.xyz")
+    write_json_atomic(tmp_dir / "spec.json", spec.normalised())
+    write_json_atomic(tmp_dir / "result.json", doc)
+    if write_reports:
+        try:
+            from dsplit.report.render import write_reports as render
+        except ImportError:
+            render = None
+        if render is not None:
+            render(doc, tmp_dir)
+    _replace_dir(tmp_dir, out_dir)
+    return doc
+
+
+def spin_states(spec: Spec, out_dir: Path, *, multiplicities: str | list[int] | None = None,
+                functionals: str | list[str] | None = None, optimize: bool = False, reuse: bool = True,
+                threads: int | None = None, memory_mb: int | None = None, progress: Callable | None = None,
+                threshold: float | None = None, max_steps: int | None = None, write_reports: bool = True):
+    """The spin-state ladder of ``spec``; returns compute_api.RunOutput (exit 3 if any state failed)."""
+    from dsplit.compute_api import RunOutput
+    from dsplit.qc.optimize import check_optimizable
+    from dsplit.qc.setup import resolve_method
+
+    cx, setup = _prepare(spec, threads, memory_mb)
+    mults = parse_multiplicities(",".join(map(str, multiplicities)) if isinstance(multiplicities, list)
+                                 else multiplicities, cx.d_count)
+    names = parse_functionals(",".join(functionals) if isinstance(functionals, list) else functionals,
+                              setup.theory)
+    setups = [setup if n == setup.theory else resolve_method(cx, replace(spec.method, theory=n), threads, memory_mb)
+              for n in names]
+    if optimize:
+        check_optimizable(cx, setup, full=False)
+    out_dir = Path(out_dir)
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    tmp_dir = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    try:
+        runs = run_ladder(cx, setups, tmp_dir, mults, optimize=optimize, reuse=reuse, progress=progress,
+                          threshold=threshold, max_steps=max_steps)
+        extra = ladder_json(runs, cx)
+        main = _main_run(runs, extra["ground_multiplicity"])
+        extra["main_state"] = {"theory": main.theory, "multiplicity": main.multiplicity, "folder": main.folder}
+        main_cx = main.optimization.final if main.optimization is not None else cx
+        doc = _finish(spec, main_cx, main.calculation, extra, tmp_dir, out_dir, write_reports)
+    except BaseException:
+        shutil.rmtree(tmp_dir, ignore_errors=True)
+        raise
+    code = 0 if all(r.ok for r in runs) else 3
+    return RunOutput(doc, out_dir, code)
+
+
+def optimize_geometry(spec: Spec, out_dir: Path, *, full: bool = False, threshold: float | None = None,
+                      max_steps: int | None = None, threads: int | None = None, memory_mb: int | None = None,
+                      progress: Callable | None = None, start_from: Path | None = None,
+                      write_reports: bool = True):
+    """Optimise ``spec``'s complex in its spec/default state; RunOutput (exit 3 if not converged/verified)."""
+    from dsplit.build_api import write_geometry
+    from dsplit.compute_api import RunOutput
+    from dsplit.errors import CalculationError
+    from dsplit.qc.optimize import check_optimizable, optimize
+
+    cx, setup = _prepare(spec, threads, memory_mb)
+    check_optimizable(cx, setup, full=full)
+    out_dir = Path(out_dir)
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    tmp_dir = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    kw = {k: v for k, v in (("threshold", threshold), ("max_steps", max_steps)) if v is not None}
+    try:
+        res = optimize(cx, setup, tmp_dir, full=full, start_from=start_from, progress=progress, **kw)
+        if res.calculation is None:
+            raise CalculationError(f"geometry optimisation stopped before any SCF: {res.failure}")
+        write_geometry(res.initial, tmp_dir / "initial_geometry.xyz")
+        doc = _finish(spec, res.final, res.calculation, {"optimization": res.to_json()}, tmp_dir, out_dir,
+                      write_reports)
+    except BaseException:
+        shutil.rmtree(tmp_dir, ignore_errors=True)
+        raise
+    code = 0 if res.converged and res.calculation.ok else 3
+    return RunOutput(doc, out_dir, code)
+
