@@ -30,10 +30,10 @@ def main() -> None:
         root = Path(tmp) / "arch"
         spec = spec_from_dict(SPEC)
         t0 = time.perf_counter()
-        compute_archived(spec, root, threads=2)
+        compute_archived(spec, root, threads=1)
         first = time.perf_counter() - t0
         t0 = time.perf_counter()
-        hit = compute_archived(spec, root, threads=2)
+        hit = compute_archived(spec, root, threads=1)
         in_proc = time.perf_counter() - t0
         t0 = time.perf_counter()
         out = subprocess.run([sys.executable, "-c", HIT.format(spec=SPEC), str(root)], capture_output=True,

@@ -246,6 +246,22 @@ def test_unfinished_folder_is_not_a_run(tmp_path):
     assert rep.ok and len(rep.unfinished) == 1
 
 
+def test_interrupted_index_creation_leaves_no_half_schema(tmp_path, monkeypatch):
+    import dsplit.archive.index as ix
+
+    def interrupted(src, dst):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(ix.os, "replace", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        fake_run(tmp_path, 0)
+    monkeypatch.undo()
+    assert not ix.index_path(tmp_path).exists()  # no index.db with half of ase.db's tables
+    assert ix.select(tmp_path) == []
+    fake_run(tmp_path, 0)  # the cache hit adds the missing row
+    assert len(ix.select(tmp_path)) == 1 and verify_archive(tmp_path).ok
+
+
 def test_interrupted_producer_leaves_nothing(tmp_path):
     spec = fake_spec(0)
 

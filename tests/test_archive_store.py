@@ -38,8 +38,8 @@ def _no_scf(*args, **kwargs):
 
 def test_first_run_is_archived(first_run):
     root, spec, run, _ = first_run
-    assert run.exit_code == 0
-    assert run.out_dir == root / spec.name / archive_run_id(spec)
+    assert run.exit_code == 0 and not run.cached
+    assert run.out_dir == root / spec.name / archive_run_id(spec) and run.run_id == run.out_dir.name
     man = json.loads((run.out_dir / "manifest.json").read_text())
     assert {"result.json", "spec.json", "geometry.xyz"} <= set(man["files"])
     assert any(f.endswith(".log") for f in man["files"])  # the PySCF log
@@ -56,7 +56,7 @@ def test_second_compute_is_a_cache_hit(first_run, monkeypatch):
     monkeypatch.setattr("dsplit.qc.engine.run_calculation", _no_scf)
     again = compute_archived(spec_from_dict(TIF6), root, threads=1)
     assert again.result == run.result
-    assert again.out_dir == run.out_dir and again.exit_code == 0
+    assert again.out_dir == run.out_dir and again.exit_code == 0 and again.cached
     assert lookup(root, spec) is not None
 
 

@@ -1,7 +1,7 @@
 """The calculation engine converges and verifies d configurations (small basis, small complexes).
 
 Expected configurations are textbook ligand-field facts (e.g. Housecroft & Sharpe, Inorganic
-Chemistry, d-block chapters — from memory): TiCl4 d0; Cr(CO)6 low-spin d6 t2g^6; VCl4 d1 e^1;
+Chemistry, d-block chapters — from memory): TiCl4 d0; Cr(CO)6 low-spin d6 t2g^6; VF4 d1 e^1;
 [CrF6]3− d3 t2g^3; [FeCl4]− high-spin d5 e^2 t2^3.
 """
 
@@ -11,53 +11,55 @@ import numpy as np
 import pytest
 
 from dsplit.qc.engine import run_calculation
+from dsplit.qc.ladder import STABILITY_TOL
 from dsplit.qc.setup import resolve_method
 from dsplit.spec import MethodSpec
 from tests.conftest import make
 
 
-def _run(cx, theory="B3LYP", basis="sto-3g", solvent="none", tmp=None, **kw):
-    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent=solvent), threads=2)
+def _run(cx, theory="HF", basis="sto-3g", solvent="none", tmp=None, **kw):
+    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent=solvent, grid_level=1), threads=2)
     return run_calculation(cx, setup, tmp, **kw)
 
 
 CASES = [
-    ("Ti", 4, "tetrahedral", {"chlorido": 4}, "HF", "none", "e^0 t2^0"),
-    ("Cr", 0, "octahedral", {"carbonyl": 6}, "HF", "none", "t2g^6 eg^0"),
-    ("V", 4, "tetrahedral", {"chlorido": 4}, "B3LYP", "none", "e^1 t2^0"),
-    ("Cr", 3, "octahedral", {"fluorido": 6}, "B3LYP", "water", "t2g^3 eg^0"),
-    ("Fe", 3, "tetrahedral", {"chlorido": 4}, "B3LYP", "none", "e^2 t2^3"),
+    ("Ti", 4, "tetrahedral", {"chlorido": 4}, "HF", "e^0 t2^0"),
+    ("Cr", 0, "octahedral", {"carbonyl": 6}, "B3LYP", "t2g^6 eg^0"),
+    ("V", 4, "tetrahedral", {"fluorido": 4}, "HF", "e^1 t2^0"),
+    ("Cr", 3, "octahedral", {"fluorido": 6}, "HF", "t2g^3 eg^0"),
+    ("Fe", 3, "tetrahedral", {"chlorido": 4}, "HF", "e^2 t2^3"),
 ]
 
 
-@pytest.mark.parametrize("metal,ox,geometry,ligands,theory,solvent,conf", CASES,
+@pytest.mark.parametrize("metal,ox,geometry,ligands,theory,conf", CASES,
                          ids=[f"{c[0]}{c[1]}-{c[2]}" for c in CASES])
-def test_converges_and_verifies(tmp_path, metal, ox, geometry, ligands, theory, solvent, conf):
+def test_converges_and_verifies(tmp_path, metal, ox, geometry, ligands, theory, conf):
     cx = make(metal, geometry, ligands, oxidation_state=ox)
-    calc = _run(cx, theory=theory, solvent=solvent, tmp=tmp_path)
+    calc = _run(cx, theory=theory, tmp=tmp_path)
     assert calc.converged, calc.notes
     assert calc.configuration_verified, (calc.configuration_found, calc.notes)
     assert calc.configuration_found == conf
-    assert calc.stability_lowest is not None and calc.stability_lowest > -1e-5
+    assert calc.stability_lowest is not None and calc.stability_lowest > -STABILITY_TOL
     ss, _ = calc.spin_square()
     s = (cx.multiplicity - 1) / 2
-    assert abs(ss - s * (s + 1)) < 0.1  # little spin contamination for these HS cases (common practice)
+    assert abs(ss - s * (s + 1)) < 0.1  # little spin contamination for these cases (common practice)
     assert (tmp_path / "scf.log").exists() and (tmp_path / "scf.chk").exists()
 
 
 def test_excited_target_is_steered_and_verified(tmp_path):
-    # d1 VCl4 asked for the excited configuration t2^1: the SCF lands in e^1 first and is steered
-    cx = make("V", "tetrahedral", {"chlorido": 4}, oxidation_state=4, configuration="e^0 t2^1")
+    # d1 VF4 asked for the excited configuration t2^1: the SCF lands in e^1 first and is steered
+    cx = make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4, configuration="e^0 t2^1")
     calc = _run(cx, tmp=tmp_path)
     assert calc.ok, (calc.configuration_found, calc.notes)
     assert calc.configuration_found == "e^0 t2^1"
     assert calc.targeting in ("irrep_nelec", "maximum-overlap")
-    ground = _run(make("V", "tetrahedral", {"chlorido": 4}, oxidation_state=4))
+    assert any("landed in e^1 t2^0" in n for n in calc.notes)
+    ground = _run(make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4))
     assert calc.energy_hartree > ground.energy_hartree  # an excited configuration lies above
 
 
 def test_checkpoint_restart_takes_fewer_cycles(tmp_path):
-    cx = make("Fe", "tetrahedral", {"chlorido": 4}, oxidation_state=3)
+    cx = make("Ti", "tetrahedral", {"chlorido": 4}, oxidation_state=4)
     first = _run(cx, tmp=tmp_path / "a")
     again = _run(cx, tmp=tmp_path / "b", start_from=first.chk_path)
     assert any("started from checkpoint" in n for n in again.notes)

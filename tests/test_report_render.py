@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import base64
+import os
 import re
 from pathlib import Path
 
@@ -28,6 +29,10 @@ def test_full_document_writes_every_file(tmp_path: Path) -> None:
     assert names == {"report.md", "report.html", "level_diagram.png", "level_diagram.svg", "spin_states.png"}
     assert all(p.is_file() and p.stat().st_size > 0 for p in paths)
     assert not list(tmp_path.glob(".*.part"))  # atomic writes leave no temporary file
+    mask = os.umask(0)
+    os.umask(mask)
+    # files get the mode open(2) gives: 0666 minus the umask (POSIX open/umask, common practice)
+    assert {p.stat().st_mode & 0o777 for p in paths} == {0o666 & ~mask}
     md = (tmp_path / "report.md").read_text(encoding="utf-8")
     for title in ("Cautions", "The complex", "Method", "Ligand-field splitting Δ", "Ligand-field models", "Checks",
                   "Measured bands", "Level diagram", "Frontier orbitals", "Ligand-field manifold", "Spin states",

@@ -105,7 +105,7 @@ def show_cmd(run, archive_dir, as_json) -> None:
 @_archive_dir
 @click.option("--where", "selection", help="Compare the runs matching this selection (ase.db syntax).")
 @click.option("--by", default="ligands", show_default=True, help="Key that labels each run in the figure.")
-@click.option("--sort", help="Sort key for --where selections (prefix '-' for descending).")
+@click.option("--sort", help="Sort key without RUNs (default: the --by key; prefix '-' for descending).")
 @_format
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the table to this file.")
 @click.option("--figure", type=click.Path(dir_okay=False), help="Also draw Δ across the runs (.png, .svg, .pdf).")
@@ -118,7 +118,7 @@ def compare_cmd(runs, archive_dir, selection, by, sort, fmt, output, figure) -> 
     from dsplit.archive.tables import render
 
     root = _root(archive_dir)
-    rows = compare_rows(root, list(runs), selection, sort)
+    rows = compare_rows(root, list(runs), selection, sort or (None if runs else by))
     _emit(render(rows, COMPARE_COLUMNS, fmt, title="Δ across runs"), output)
     if figure:
         click.echo(f"wrote {compare_figure(rows, by, Path(figure))}", err=True)
@@ -193,7 +193,7 @@ def study_cmd(study_file, archive_dir, dry_run, resume, workers, threads, execut
     root = archive_root(archive_dir, create=not dry_run, must_exist=False)
     defaults = load_study(study_file).run
     plan = plan_study(study_file, root, resume=resume)
-    cached = {t.run_id for t in cached_tasks(plan, root)} if root.is_dir() else set()
+    cached = {t.run_id for t in cached_tasks(plan, root, reindex=not dry_run)} if root.is_dir() else set()
     if dry_run:
         if as_json:
             click.echo(json.dumps({**plan.to_dict(), "in_archive": sorted(cached)}, indent=2, ensure_ascii=False))
@@ -216,7 +216,7 @@ def study_cmd(study_file, archive_dir, dry_run, resume, workers, threads, execut
                                  ("theory", "theory"), ("basis", "basis"), ("delta_orbital_eV", "Δ orbital/eV"),
                                  ("delta_state_eV", "Δ state/eV"), ("delta_excitation_eV", "Δ excitation/eV"),
                                  ("state", "state")], "text", title="\nsummary"))
-    n_done = sum(r["state"] in ("computed", "cached", "not verified") for r in rows)
+    n_done = sum(r["state"] in ("computed", "cached", "not verified", "in archive") for r in rows)
     if out.interrupted:
         click.echo(f"dsplit: study interrupted: {n_done} of {len(rows)} run(s) finished; "
                    f"finish with: dsplit study {study_file} --resume", err=True)

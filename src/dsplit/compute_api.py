@@ -50,6 +50,7 @@ def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
     with os.fdopen(fd, "w", encoding="utf-8") as fh:
         json.dump(doc, fh, indent=2, ensure_ascii=False)
         fh.write("\n")
+    os.chmod(tmp, 0o644)
     os.replace(tmp, path)
 
 
@@ -107,17 +108,13 @@ def _write_geometry(cx, folder: Path) -> None:
 
 
 def _splitting_and_models(spec, cx, calc, table, folder, progress) -> dict[str, Any]:
-    """Splitting estimators and ligand-field comparison (dsplit.analysis.splitting, when present)."""
-    try:
-        from dsplit.analysis.splitting import estimate_splitting
-    except ImportError:
-        return {}
+    """Splitting estimators and the ligand-field comparison."""
+    from dsplit.analysis.splitting import estimate_splitting
+
     return estimate_splitting(spec, cx, calc, table, folder, progress=progress)
 
 
 def _write_reports(doc: dict[str, Any], folder: Path) -> None:
-    try:
-        from dsplit.report.render import write_reports
-    except ImportError:
-        return
+    from dsplit.report.render import write_reports
+
     write_reports(doc, folder)

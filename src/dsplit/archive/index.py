@@ -139,19 +139,49 @@ def _upsert(db, atoms, kv: dict[str, Any]) -> int:
         return db.write(atoms, key_value_pairs=kv)
 
 
+def _ensure_index(root: Path) -> Path:
+    """index.db with all of ase.db's tables, created whole (call with the index lock held).
+
+    Python's sqlite3 commits each CREATE TABLE on its own, so a writer killed while
+    ase.db sets up a new file would leave half a schema: build it aside, then rename.
+    """
+    path = index_path(root)
+    if not path.is_file():
+        tmp = root / f".{INDEX_NAME}.init-{os.getpid()}"
+        tmp.unlink(missing_ok=True)
+        connect(tmp).count()  # ase.db creates its tables and indices
+        os.replace(tmp, path)
+    return path
+
+
 def add_run(root: Path, folder: Path, result: dict[str, Any], manifest: dict[str, Any]) -> int:
     """Insert or replace the row of one run (keyed by run_id); returns the row id."""
     atoms = run_atoms(folder, result)
     kv = key_values(result, manifest)
     with file_lock(lock_path(root, "index")):
-        return _retry(lambda: _upsert(connect(index_path(root)), atoms, kv))
+        path = _ensure_index(root)
+        return _retry(lambda: _upsert(connect(path), atoms, kv))
 
 
 def has_run(root: Path, run_id: str) -> bool:
+    """Whether index.db has a row for ``run_id`` (plain sqlite3 on ase.db's key table: no ASE import)."""
     path = index_path(root)
     if not path.is_file():
         return False
-    return _retry(lambda: connect(path).count(run_id=run_id)) > 0
+
+    def count() -> int:
+        con = sqlite3.connect(f"file:{path}?mode=ro", uri=True, timeout=20)
+        try:
+            return con.execute("SELECT COUNT(*) FROM text_key_values WHERE key='run_id' AND value=?",
+                               (run_id,)).fetchone()[0]
+        except sqlite3.OperationalError as exc:
+            if "no such table" in str(exc):  # an index that ase.db has not initialised yet
+                return 0
+            raise
+        finally:
+            con.close()
+
+    return _retry(count) > 0
 
 
 def select(root: Path, selection: str | None = None, sort: str | None = None, limit: int | None = None) -> list:
@@ -274,8 +304,7 @@ def rebuild(root: Path) -> tuple[int, list[tuple[str, str]]]:
                     result, manifest = load_run(folder)
                     db.write(run_atoms(folder, result), key_value_pairs=key_values(result, manifest))
                     n += 1
-            if n == 0:  # ase.db creates the file lazily
-                connect(tmp).count()
+            connect(tmp).count()  # ase.db creates the file lazily (an archive with no runs)
             os.replace(tmp, index_path(root))
         finally:
             tmp.unlink(missing_ok=True)

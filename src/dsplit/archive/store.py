@@ -20,6 +20,7 @@ from __future__ import annotations
 import os
 import shutil
 import time
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
 
@@ -30,7 +31,15 @@ from dsplit.archive.paths import (MANIFEST_NAME, archive_root, check_name, defau
 from dsplit.compute_api import RunOutput, write_json_atomic
 from dsplit.spec import Spec
 
-__all__ = ["compute_archived", "run_archived", "lookup", "default_archive_root", "archive_run_id"]
+__all__ = ["ArchivedRun", "compute_archived", "run_archived", "lookup", "default_archive_root", "archive_run_id"]
+
+
+@dataclass
+class ArchivedRun(RunOutput):
+    """A RunOutput whose ``out_dir`` is the archived run folder; ``cached``: answered from the archive."""
+
+    cached: bool = False
+    run_id: str = ""
 
 
 def archive_run_id(spec: Spec, kind: str = "compute", options: dict[str, Any] | None = None) -> str:
@@ -39,13 +48,13 @@ def archive_run_id(spec: Spec, kind: str = "compute", options: dict[str, Any] | 
 
 
 def lookup(root: Path, spec: Spec, kind: str = "compute", options: dict[str, Any] | None = None,
-           reindex: bool = True) -> RunOutput | None:
+           reindex: bool = True) -> ArchivedRun | None:
     """The archived run for this request, or None (no folder, or one that is not intact)."""
     folder = run_folder(root, check_name(spec.name), archive_run_id(spec, kind, options))
     return _load_if_intact(root, folder, reindex)
 
 
-def _load_if_intact(root: Path, folder: Path, reindex: bool) -> RunOutput | None:
+def _load_if_intact(root: Path, folder: Path, reindex: bool) -> ArchivedRun | None:
     if not folder.is_dir() or check_folder(folder, quick=True):
         return None
     result = read_json(folder / "result.json")
@@ -55,7 +64,7 @@ def _load_if_intact(root: Path, folder: Path, reindex: bool) -> RunOutput | None
 
         if not index.has_run(root, folder.name):  # the writer died between rename and index
             index.add_run(root, folder, result, manifest)
-    return RunOutput(result, folder, int(manifest.get("exit_code", 0)))
+    return ArchivedRun(result, folder, int(manifest.get("exit_code", 0)), cached=True, run_id=folder.name)
 
 
 def _commit(tmp: Path, final: Path, replace: bool) -> bool:
@@ -77,7 +86,7 @@ def _commit(tmp: Path, final: Path, replace: bool) -> bool:
 
 def run_archived(spec: Spec, archive: str | Path | None, produce: Callable[[Path], Any], *,
                  kind: str = "compute", options: dict[str, Any] | None = None,
-                 recompute: bool = False, on_wait: Callable[[], None] | None = None) -> RunOutput:
+                 recompute: bool = False, on_wait: Callable[[], None] | None = None) -> ArchivedRun:
     """Answer ``spec`` from the archive, or run ``produce(out_dir)`` and archive what it wrote.
 
     ``produce`` must write a finished run folder at ``out_dir`` (result.json at least)
@@ -117,26 +126,32 @@ def run_archived(spec: Spec, archive: str | Path | None, produce: Callable[[Path
         finally:
             shutil.rmtree(tmp, ignore_errors=True)
         if not committed:
-            return _load_if_intact(root, final, reindex=True) or RunOutput(result, final, int(out.exit_code))
+            return _load_if_intact(root, final, reindex=True) or ArchivedRun(result, final, int(out.exit_code),
+                                                                             run_id=run_id)
     from dsplit.archive import index
 
     index.add_run(root, final, result, manifest)
-    return RunOutput(result, final, int(out.exit_code))
+    return ArchivedRun(result, final, int(out.exit_code), cached=False, run_id=run_id)
 
 
 def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: bool = False, *,
                      threads: int | None = None, memory_mb: int | None = None, progress: Callable | None = None,
                      start_from: Path | None = None, estimators: bool = True, write_reports: bool = True,
-                     on_wait: Callable[[], None] | None = None) -> RunOutput:
+                     on_wait: Callable[[], None] | None = None) -> ArchivedRun:
     """``dsplit.compute_api.compute`` through the archive (cache hit unless ``recompute``).
 
     Threads, memory and the start checkpoint do not enter the run-id; switching the
-    estimators or the reports off does (those runs hold less).
+    estimators or the reports off does (those runs hold less).  A hit returns the
+    archived RunOutput (its ``out_dir`` is the run folder) without importing PySCF.
     """
     from dsplit.compute_api import compute, preflight
 
-    preflight(spec, threads, memory_mb)  # bad input fails before any folder is made
     options = {k: v for k, v in {"estimators": estimators, "write_reports": write_reports}.items() if not v}
+    if not recompute:  # a hit needs neither validation nor PySCF: the spec was checked when it ran
+        hit = lookup(archive_root(archive), spec, "compute", options)
+        if hit is not None:
+            return hit
+    preflight(spec, threads, memory_mb)  # bad input fails before any folder is made
     return run_archived(
         spec, archive,
         lambda out: compute(spec, out, threads=threads, memory_mb=memory_mb, progress=progress,

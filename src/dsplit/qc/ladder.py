@@ -26,6 +26,8 @@ import numpy as np
 
 Progress = Callable[[str, int, float, float], None]
 RUNGS = ("diis", "level-shift", "newton", "fractional")
+#: Davidson tolerance of the stability analysis, and so the smallest instability we can resolve (Eh)
+STABILITY_TOL = 1e-3
 
 
 @dataclass
@@ -137,11 +139,12 @@ def lowest_hessian_eigenvalue(mf, nroots: int = 1) -> tuple[float, object]:
     x0 = np.zeros_like(g)
     x0[g != 0] = 1.0 / hdiag[g != 0]
     nroots = min(nroots, int(np.count_nonzero(g != 0)) or 1)
-    e, v = lib.davidson(lambda x: hop(x).real * 2, x0, precond, tol=1e-3, nroots=nroots, max_cycle=30, verbose=0)
+    e, v = lib.davidson(lambda x: hop(x).real * 2, x0, precond, tol=STABILITY_TOL, nroots=nroots, max_cycle=30,
+                        verbose=0)
     if nroots != 1:
         e, v = e[0], v[0]
     e = float(e)
-    if e >= -1e-5:
+    if e >= -STABILITY_TOL:  # within the resolution of the Davidson solve: stable
         return e, None
     if isinstance(mf, scf.uhf.UHF) and not isinstance(mf, scf.rohf.ROHF):
         nocca = int(np.count_nonzero(mf.mo_occ[0] > 0))

@@ -161,7 +161,7 @@ def ligand_sets(cx: Complex) -> list[LigandSet]:
             elif None not in trans and len(set(trans)) == len(orbs):
                 label = f"{key} (trans to {trans[i]})"
             else:
-                label = f"{key} (set {i + 1})"
+                label = f"{key} (site{'s' if len(orb) > 1 else ''} "                         + ",".join(str(cx.ligands[m].site) for m in orb) + ")"
             out.append(LigandSet(label, key, roles[i], tuple(orb)))
     return out
 

@@ -22,6 +22,12 @@ LEVEL_DIAGRAM = "level_diagram"
 SPIN_STATES = "spin_states"
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def write_atomic(path: Path, data: bytes | str) -> None:
     """Write a file through a temporary sibling and os.replace (no partial file is ever visible)."""
     raw = data.encode("utf-8") if isinstance(data, str) else data
@@ -29,6 +35,7 @@ def write_atomic(path: Path, data: bytes | str) -> None:
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(raw)
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the mode a plain open() would
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)

@@ -12,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from dsplit.models.units import hartree_to_ev
+from dsplit.qc.ladder import STABILITY_TOL
 
 SCHEMA_NAME = "dsplit.result"
 SCHEMA_VERSION = 1
@@ -87,7 +88,8 @@ def scf_section(calc) -> dict[str, Any]:
                    "gradient_norm": r.gradient_norm, "seconds": r.seconds} for r in calc.rungs],
         "stability": {"lowest_hessian_eigenvalue": calc.stability_lowest,
                       "instabilities_followed": calc.stability_followed,
-                      "stable": None if calc.stability_lowest is None else calc.stability_lowest >= -1e-5},
+                      "stable": None if calc.stability_lowest is None else calc.stability_lowest >= -STABILITY_TOL,
+                      "tolerance": STABILITY_TOL},
         "targeting": calc.targeting,
     }
 

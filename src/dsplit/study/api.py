@@ -43,11 +43,12 @@ def plan_study(study_path: str | Path, archive: Path, resume: bool = False) -> P
     return plan
 
 
-def cached_tasks(plan: Plan, archive: Path) -> list[Task]:
+def cached_tasks(plan: Plan, archive: Path, reindex: bool = True) -> list[Task]:
+    """Tasks whose run is already intact in the archive (``reindex``: add any missing index row)."""
     from dsplit.archive.store import lookup
     from dsplit.spec import spec_from_dict
 
-    return [t for t in plan.tasks if lookup(archive, spec_from_dict(t.spec)) is not None]
+    return [t for t in plan.tasks if lookup(archive, spec_from_dict(t.spec), reindex=reindex) is not None]
 
 
 def plan_rows(plan: Plan, cached: set[str]) -> list[dict[str, Any]]:
@@ -100,10 +101,13 @@ def summary_rows(outcome: StudyOutcome) -> list[dict[str, Any]]:
 
     by_task = {o["run_id"]: o for o in outcome.outcomes}
     rows_by_id = {r.get("run_id"): r for r in index.fast_rows(outcome.archive) or []}
+    finished = ({t.run_id for t in cached_tasks(outcome.plan, outcome.archive, reindex=False)}
+                if outcome.interrupted else set())
     out = []
     for t in outcome.plan.tasks:
         o = by_task.get(t.run_id)
-        state = o["state"] if o else ("cached" if t.run_id in outcome.cached_before else "not run")
+        state = o["state"] if o else ("cached" if t.run_id in outcome.cached_before else
+                                      "in archive" if t.run_id in finished else "not run")
         out.append({**rows_by_id.get(t.run_id, {}), "name": t.name, "run_id": t.run_id, **t.axes, "state": state,
                     "error": (o or {}).get("error")})
     return out

@@ -48,24 +48,21 @@ def parallelism(n_tasks: int, workers: int | None, threads: int | None, cores: i
 
 def execute_task(spec_doc: dict[str, Any], run_id: str, archive: str, threads: int) -> dict[str, Any]:
     """Run one task through the archive; a summary dict (never raises for a failed run)."""
-    from dsplit.archive.store import compute_archived, lookup
+    from dsplit.archive.store import compute_archived
     from dsplit.errors import CalculationError
     from dsplit.spec import spec_from_dict
 
     t0 = time.perf_counter()
     out: dict[str, Any] = {"name": spec_doc.get("name"), "run_id": run_id}
     try:
-        spec = spec_from_dict(spec_doc)
-        cached = lookup(Path(archive), spec) is not None
-        run = compute_archived(spec, archive, threads=threads)
+        run = compute_archived(spec_from_dict(spec_doc), archive, threads=threads)
     except (InputError, CalculationError) as exc:
         return {**out, "state": "failed", "error": str(exc), "seconds": time.perf_counter() - t0}
     except Exception as exc:  # a crash in one task must not stop the study
         return {**out, "state": "failed", "error": f"{type(exc).__name__}: {exc}", "seconds": time.perf_counter() - t0}
     res = run.result
-    state = "cached" if cached else ("computed" if run.exit_code == 0 else "not verified")
-    out.update(state=state, seconds=time.perf_counter() - t0, folder=str(run.out_dir),
-               run_id=(res.get("archive") or {}).get("run_id", run_id))
+    state = "cached" if run.cached else ("computed" if run.exit_code == 0 else "not verified")
+    out.update(state=state, seconds=time.perf_counter() - t0, folder=str(run.out_dir), run_id=run.run_id)
     for est, block in (res.get("splitting") or {}).items():
         if isinstance(block, dict) and isinstance(block.get("delta_eV"), (int, float)):
             out.update(delta_eV=block["delta_eV"], delta_estimator=est)
@@ -99,7 +96,9 @@ def _run_pool(tasks, archive: str, workers: int, threads: int, report: Callable)
         raise RuntimeError("a study worker process died or could not start; a script that runs a study with "
                            "more than one worker needs an `if __name__ == '__main__':` guard "
                            "(multiprocessing 'spawn')") from exc
-    except BaseException:
+    except BaseException:  # Ctrl-C: stop now; a killed worker's half-written run is never listed
+        for proc in list(getattr(pool, "_processes", {}).values()):  # queued calls would run otherwise
+            proc.terminate()
         pool.shutdown(wait=False, cancel_futures=True)
         raise
     pool.shutdown(wait=True)

@@ -1,0 +1,121 @@
+"""Full (ASE BFGS) optimisation, the ASE calculator's forces, and the optimize command's exits.
+
+Outside references:
+- forces are minus the energy gradient: central differences F ≈ −[E(x+h) − E(x−h)]/2h
+  (ase.calculators.test.calculate_numerical_forces does exactly this);
+- ASE's unit system: eV and Å (ase.units, CODATA);
+- a full optimisation from an ideal Td start on a symmetric surface stays Td and
+  reaches the same stationary point as the breathing-mode optimisation (a symmetric
+  function's gradient is symmetric — Cotton, Chemical Applications of Group Theory,
+  3rd ed., ch. 4 idea of invariance; from memory).
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from dsplit.spec import MethodSpec
+
+TIF4 = dict(metal="Ti", geometry="tetrahedral", ligands={"fluorido": 4}, oxidation_state=4, bond_length=1.78)
+HF_MINIMAL = MethodSpec(theory="HF", basis="sto-3g", solvent="none")
+
+
+def _setup(cx, method=HF_MINIMAL):
+    from dsplit.qc.setup import resolve_method
+
+    return resolve_method(cx, method, threads=2)
+
+
+def test_full_keeps_td_and_matches_symmetric(tmp_path):
+    from dsplit.geometry.build import ComplexRequest, build_complex
+    from dsplit.qc.optimize import optimize_full, optimize_symmetric
+
+    cx = build_complex(ComplexRequest(name="tif4", **TIF4))
+    setup = _setup(cx)
+    (tmp_path / "full").mkdir()
+    full = optimize_full(cx, setup, tmp_path / "full")
+    assert full.converged, full.failure
+    assert full.start_group == "Td" and full.final_group == "Td" and full.symmetry_kept
+    assert full.trajectory.is_file()
+    d = list(full.steps[-1].distances.values())
+    assert max(d) - min(d) < 1e-3
+    sym = optimize_symmetric(cx, setup, tmp_path / "sym")
+    assert sym.converged
+    assert abs(full.steps[-1].energy_hartree - sym.steps[-1].energy_hartree) < 2e-6
+    assert np.mean(d) == pytest.approx(sym.steps[-1].distances["fluorido"], abs=2e-3)
+
+
+def test_ase_calculator_forces_match_central_differences(build):
+    """Open shell (UHF doublet, d1 VF4) with PCM water: the solvent term is in the gradient too."""
+    from ase.calculators.test import calculate_numerical_forces
+
+    from dsplit.qc.ase_calculator import DsplitCalculator
+
+    cx = build("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4, bond_length=1.80)
+    setup = _setup(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="water"))
+    atoms = cx.atoms.copy()
+    rng = np.random.default_rng(7)
+    atoms.positions[1:] += rng.normal(scale=0.04, size=(4, 3))  # break the symmetry: non-trivial forces
+    atoms.calc = DsplitCalculator(cx, setup)
+    analytic = atoms.get_forces()
+    numeric = calculate_numerical_forces(atoms, eps=2e-3, iatoms=[0, 2], icarts=[0, 2])
+    assert np.abs(analytic[[0, 2]][:, [0, 2]]).max() > 0.05  # eV/Å: really non-zero
+    np.testing.assert_allclose(analytic[[0, 2]][:, [0, 2]], numeric, atol=2e-3)
+
+
+def _write_spec(tmp_path, **extra_method) -> str:
+    method = {"theory": '"HF"', "basis": '"sto-3g"', "solvent": '"none"', **extra_method}
+    body = "\n".join(f"{k} = {v}" for k, v in method.items())
+    path = tmp_path / "tif4.toml"
+    path.write_text('name = "tif4"\n[complex]\nmetal = "Ti"\noxidation_state = 4\ngeometry = "tetrahedral"\n'
+                    f'ligands = {{ fluorido = 4 }}\nbond_length = 1.78\n[method]\n{body}\n')
+    return str(path)
+
+
+def test_step_limit_is_reported_with_exit_3(tmp_path):
+    from dsplit.cli_spin import optimize_cmd
+
+    out = tmp_path / "run"
+    res = CliRunner().invoke(optimize_cmd, [_write_spec(tmp_path), "--max-steps", "1", "--out", str(out),
+                                            "--quiet", "--threads", "2"])
+    assert res.exit_code == 3, res.output
+    doc = json.loads((out / "result.json").read_text())
+    opt = doc["optimization"]
+    assert opt["converged"] is False and opt["steps"] == 1 and "not converged" in opt["failure"]
+    assert (out / "opt.traj").is_file() and (out / "geometry.xyz").is_file() and (out / "spec.json").is_file()
+
+
+def test_full_refused_without_solvent_gradient(tmp_path, monkeypatch):
+    import dsplit.qc.optimize as opt
+    from dsplit.cli_spin import optimize_cmd
+
+    monkeypatch.setattr(opt, "solvent_gradient_available", lambda setup: setup.solvent.is_gas_phase)
+    out = tmp_path / "run"
+    res = CliRunner().invoke(optimize_cmd, [_write_spec(tmp_path, solvent='"water"'), "--full", "--out", str(out)])
+    assert res.exit_code == 2 and "--full" in res.output
+    assert not out.exists()
+
+
+def test_pcm_gradient_is_available_in_this_pyscf():
+    """PySCF ≥ 2.5 ships pyscf.solvent.grad.pcm (the PCM object's nuc_grad_method)."""
+    from dsplit.qc.optimize import solvent_gradient_available
+    from dsplit.qc.solvents import resolve_solvent
+
+    class _S:
+        solvent = resolve_solvent("water", 0)
+
+    assert solvent_gradient_available(_S())
+
+
+def test_point_donors_refused(tmp_path):
+    from dsplit.cli_spin import optimize_cmd
+
+    spec = tmp_path / "pc.toml"
+    spec.write_text('name = "pc"\n[complex]\nmetal = "Ti"\noxidation_state = 3\ngeometry = "octahedral"\n'
+                    'ligands = { point = 6 }\n[method]\nbasis = "sto-3g"\n')
+    res = CliRunner().invoke(optimize_cmd, [str(spec), "--out", str(tmp_path / "run")])
+    assert res.exit_code == 2 and "complex.ligands" in res.output

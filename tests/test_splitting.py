@@ -1,0 +1,86 @@
+"""The three estimators on a small fast complex, and the state estimator along the
+spectrochemical series.
+
+Outside facts: for d1 the single d–d band measures Δ (one-electron case, any ligand-field
+textbook); the spectrochemical series F⁻ < H2O < NH3 < CN⁻ (Tsuchida's series, e.g. Shriver &
+Atkins, Inorganic Chemistry — from memory).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from dsplit.analysis.orbitals import build_orbital_table
+from dsplit.analysis.splitting import choose_transition, estimate_splitting, state_estimator
+from dsplit.qc.engine import run_calculation
+from dsplit.qc.setup import resolve_method
+from dsplit.spec import MethodSpec, Spec
+from tests.conftest import make
+
+
+def _calc(cx, tmp, theory="HF", basis="sto-3g"):
+    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent="none", grid_level=1), threads=2)
+    return run_calculation(cx, setup, tmp, stability=False)
+
+
+@pytest.fixture(scope="module")
+def vf4(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("vf4")
+    cx = make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4)
+    calc = _calc(cx, tmp)
+    table = build_orbital_table(calc)
+    spec = Spec(name="vf4", complex=None)
+    return cx, calc, table, estimate_splitting(spec, cx, calc, table, tmp)
+
+
+def test_three_estimators_run_and_are_consistent(vf4):
+    cx, calc, table, out = vf4
+    assert calc.ok
+    split = out["splitting"]
+    # state: Δ is exactly the difference of the two configuration energies it came from
+    st = split["state"]
+    assert st["configuration_verified"] and st["excited_configuration"] == "e^0 t2^1"
+    assert st["delta_eV"] > 0
+    from dsplit.models.units import hartree_to_ev
+
+    assert abs(st["delta_eV"] - hartree_to_ev(st["energy_excited_hartree"] - st["energy_ground_hartree"])) < 1e-9
+    # excitation: the d–d roots are symmetry-labelled and their hole/particle are e → t2
+    ex = split["excitation"]
+    dd = [r for r in ex["roots"] if r["d_d"]]
+    assert dd and all(r["symmetry"] for r in dd)
+    assert any("e→t2" in p for p in dd[0]["pairs"])
+    assert abs(ex["delta_eV"] - dd[0]["energy_eV"]) < 0.05
+    # orbital: open shell, so restricted-open value with α/β beside and a warning
+    orb = split["orbital"]
+    assert set(orb["per_spin"]) == {"alpha", "beta"} and "warning" in orb
+    assert orb["delta_eV"] is not None and orb["delta_eV"] > 0
+    # d1: the first band measures Δ directly (one-electron case)
+    assert out["band_meaning"]["measures_delta_directly"]
+
+
+def test_checks_have_verdicts(vf4):
+    _, _, _, out = vf4
+    names = {c["name"]: c["verdict"] for c in out["checks"]}
+    assert names["set order"] == "agrees"  # Td: e below t2 (textbook)
+    assert names["degeneracy pattern"] == "agrees"
+    assert set(names.values()) <= {"agrees", "differs", "not applicable"}
+
+
+def test_no_spin_allowed_band_for_high_spin_d5(tmp_path):
+    # high-spin d5 (6A1) has no spin-allowed d–d band (Orgel diagram, textbook): state estimator withheld
+    cx = make("Fe", "tetrahedral", {"chlorido": 4}, oxidation_state=3)
+    calc = _calc(cx, tmp_path)
+    assert calc.ok and choose_transition(calc) is None
+
+
+def test_spectrochemical_order_of_state_estimator(tmp_path):
+    deltas = {}
+    for lig in ("fluorido", "aqua", "ammine", "cyanido"):
+        cx = make("Cr", "octahedral", {lig: 6}, oxidation_state=3)
+        calc = _calc(cx, tmp_path / lig)
+        assert calc.ok, (lig, calc.configuration_found)
+        st = state_estimator(calc, choose_transition(calc), tmp_path / lig)
+        assert st["configuration_verified"], lig
+        deltas[lig] = st["delta_eV"]
+    order = sorted(deltas, key=deltas.get)
+    assert order == ["fluorido", "aqua", "ammine", "cyanido"], deltas
