@@ -91,8 +91,7 @@ def test_names_that_leave_the_archive_are_refused(tmp_path, bad, monkeypatch):
     root = tmp_path / "arch"
     with pytest.raises(InputError, match="name"):
         compute_archived(spec, root, threads=1)
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["arch"]
-    assert not any(p for p in root.iterdir() if not p.name.startswith("."))
+    assert list(tmp_path.iterdir()) == []  # nothing written anywhere
 
 
 def test_archive_path_that_is_a_file(tmp_path):

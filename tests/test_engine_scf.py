@@ -25,7 +25,7 @@ def _run(cx, theory="HF", basis="sto-3g", solvent="none", tmp=None, **kw):
 CASES = [
     ("Ti", 4, "tetrahedral", {"chlorido": 4}, "HF", "e^0 t2^0"),
     ("Cr", 0, "octahedral", {"carbonyl": 6}, "B3LYP", "t2g^6 eg^0"),
-    ("V", 4, "tetrahedral", {"fluorido": 4}, "HF", "e^1 t2^0"),
+    ("V", 4, "tetrahedral", {"fluorido": 4}, "B3LYP", "e^1 t2^0"),
     ("Cr", 3, "octahedral", {"fluorido": 6}, "HF", "t2g^3 eg^0"),
     ("Fe", 3, "tetrahedral", {"chlorido": 4}, "HF", "e^2 t2^3"),
 ]
@@ -49,12 +49,12 @@ def test_converges_and_verifies(tmp_path, metal, ox, geometry, ligands, theory, 
 def test_excited_target_is_steered_and_verified(tmp_path):
     # d1 VF4 asked for the excited configuration t2^1: the SCF lands in e^1 first and is steered
     cx = make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4, configuration="e^0 t2^1")
-    calc = _run(cx, tmp=tmp_path)
+    calc = _run(cx, theory="B3LYP", tmp=tmp_path)
     assert calc.ok, (calc.configuration_found, calc.notes)
     assert calc.configuration_found == "e^0 t2^1"
     assert calc.targeting in ("irrep_nelec", "maximum-overlap")
     assert any("landed in e^1 t2^0" in n for n in calc.notes)
-    ground = _run(make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4))
+    ground = _run(make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4), theory="B3LYP")
     assert calc.energy_hartree > ground.energy_hartree  # an excited configuration lies above
 
 
@@ -79,3 +79,19 @@ def test_pyscf_reference_energies():
     h2o = gto.M(atom=[("O", (0, 0, 0)), ("H", (r * np.sin(a), 0, r * np.cos(a))),
                       ("H", (-r * np.sin(a), 0, r * np.cos(a)))], unit="Bohr", basis="sto-3g", verbose=0)
     assert abs(scf.RHF(h2o).kernel() - (-74.963)) < 1e-3
+
+
+def test_ladder_climbs_when_diis_runs_out(tmp_path):
+    # A plain-DIIS budget below what this open-shell run needs: DIIS must fail and a later rung
+    # (level shift + damping, Newton, fractional start) converge to the same state.
+    cx = make("Fe", "tetrahedral", {"chlorido": 4}, oxidation_state=3)
+    free = _run(cx)
+    need = free.rungs[0].cycles
+    assert free.rungs[0].rung == "diis" and free.rungs[0].converged
+    setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none", max_cycles=max(3, need // 2)),
+                           threads=2)
+    capped = run_calculation(cx, setup, tmp_path)
+    assert not capped.rungs[0].converged
+    assert capped.ok
+    assert any(r.converged and r.rung != "diis" for r in capped.rungs)
+    assert abs(capped.energy_hartree - free.energy_hartree) < 1e-6

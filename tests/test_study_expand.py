@@ -115,3 +115,6 @@ def test_unknown_study_file_and_resume_without_record(tmp_path):
     assert r.exit_code == 2
     r = CliRunner().invoke(study_cmd, [str(study(tmp_path, "")), "--archive", str(tmp_path / "a"), "--resume"])
     assert r.exit_code == 2 and "no earlier run" in r.output
+    (tmp_path / "plainfile").write_text("")
+    r = CliRunner().invoke(study_cmd, [str(study(tmp_path, "")), "--archive", str(tmp_path / "plainfile")])
+    assert r.exit_code == 2 and "is a file" in r.output

@@ -147,8 +147,10 @@ def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: b
     from dsplit.compute_api import compute, preflight
 
     options = {k: v for k, v in {"estimators": estimators, "write_reports": write_reports}.items() if not v}
+    check_name(spec.name)
     if not recompute:  # a hit needs neither validation nor PySCF: the spec was checked when it ran
-        hit = lookup(archive_root(archive), spec, "compute", options)
+        root = archive_root(archive, create=False, must_exist=False)
+        hit = lookup(root, spec, "compute", options) if root.is_dir() else None
         if hit is not None:
             return hit
     preflight(spec, threads, memory_mb)  # bad input fails before any folder is made

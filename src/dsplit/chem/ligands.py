@@ -7,7 +7,7 @@ one reference atom (the H–O–H plane of aqua, one N–H of ammine), so a twis
 about z sets the orientation.
 
 Internal geometries come from ``ase.build.molecule`` (the G2 set) where ASE has
-the molecule; the others are typical bond lengths (from memory, Allen et al.,
+the molecule (equivalent H atoms put on an exact ring, keeping ASE's mean distances); the others are typical bond lengths (from memory, Allen et al.,
 J. Chem. Soc. Perkin Trans. 2 (1987) S1 style averages): O–H 0.97 Å in
 hydroxido, N–C 1.18 Å and C–S 1.62 Å in isothiocyanato.
 """
@@ -74,8 +74,33 @@ def _from_ase(name: str, donor_index: int, plane_atom: int | None = None) -> tup
         c, s = np.cos(phi), np.sin(phi)
         pos = pos @ np.array([[c, -s, 0], [s, c, 0], [0, 0, 1]]).T
     order = [donor_index] + list(others)
+    pos = _symmetrise_ring(symbols, pos, others)
     pos[np.abs(pos) < 1e-12] = 0.0
     return tuple(symbols[i] for i in order), pos[order]
+
+
+def _symmetrise_ring(symbols: list[str], pos: np.ndarray, others) -> np.ndarray:
+    """Place equivalent off-axis atoms exactly on a regular ring about the local z axis.
+
+    ASE's G2 coordinates are given to 3 decimals, so NH3 is C3v only to ~1e-4 Å; the mean
+    radius and height are kept and the atoms put at exact 360°/n steps from the first one.
+    """
+    pos = pos.copy()
+    off = [i for i in others if np.hypot(pos[i, 0], pos[i, 1]) > 1e-6]
+    groups: dict[str, list[int]] = {}
+    for i in off:
+        groups.setdefault(symbols[i], []).append(i)
+    for members in groups.values():
+        if len(members) < 2:
+            continue
+        rho = float(np.mean([np.hypot(pos[i, 0], pos[i, 1]) for i in members]))
+        z = float(np.mean(pos[members, 2]))
+        phi0 = float(np.arctan2(pos[members[0], 1], pos[members[0], 0]))
+        ordered = sorted(members, key=lambda i: (np.arctan2(pos[i, 1], pos[i, 0]) - phi0) % (2 * np.pi))
+        for k, i in enumerate(ordered):
+            phi = phi0 + 2 * np.pi * k / len(members)
+            pos[i] = (rho * np.cos(phi), rho * np.sin(phi), z)
+    return pos
 
 
 def _rotation_onto(a: np.ndarray, b: np.ndarray) -> np.ndarray:

@@ -27,6 +27,7 @@ from dsplit.qc.setup import MethodSetup, build_mole, make_mean_field, memory_est
 from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupation
 
 MAX_STABILITY_FOLLOWS = 2
+SPIN_CONTAMINATION_TOL = 0.1  # |⟨S²⟩ − S(S+1)| above 10 % (or 0.1 for S ≤ 1/2): flagged (common practice)
 EXCITED_CONV_TOL = 1e-8  # Eh; ΔSCF energies are reported to 1e-5 eV at most
 
 
@@ -301,6 +302,11 @@ def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = Non
     timings["wall"] = time.perf_counter() - t_wall
     timings["cpu"] = time.process_time() - t_cpu
     warnings = []
+    if mf.converged and np.asarray(mf.mo_occ).ndim == 2:
+        ss = float(mf.spin_square()[0])
+        exact = (mult - 1) / 2 * ((mult - 1) / 2 + 1)
+        if abs(ss - exact) > SPIN_CONTAMINATION_TOL * max(1.0, exact):
+            warnings.append(f"spin contamination: ⟨S²⟩ = {ss:.3f} against S(S+1) = {exact:.3f}")
     if not mf.converged:
         warnings.append("SCF did not converge on any rung: no result")
     elif not verified:

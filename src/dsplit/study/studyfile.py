@@ -32,7 +32,7 @@ from dsplit.errors import InputError
 SCHEMA = "dsplit.study/1"
 AXES = ("metals", "ligands", "geometries", "isomers", "bond_lengths", "methods", "multiplicities")
 _TOP = ("name", "description", "base", "vary", "run")
-_RUN_KEYS = {"workers": int, "threads": int, "executor": str, "scheduler": str, "memory_mb": int}
+_RUN_KEYS = {"workers": int, "threads": int, "executor": str, "scheduler": str}
 
 
 @dataclass

@@ -1,0 +1,68 @@
+"""dsplit's calculation engine against a bare PySCF script doing the same SCF, density fitting
+against 4-index integrals, and the cost of labelling + composition against the SCF.
+
+Prints measured ratios side by side (targets: overhead ≤ 1.05, DF speed-up ≥ 3,
+labelling + composition ≤ 5 % of the SCF).  Complex: [CrF6]3−, B3LYP/def2-SVP, PCM water.
+Run: python benchmarks/compute_overhead.py [basis]
+"""
+
+from __future__ import annotations
+
+import sys
+
+from _common import build, timed
+
+
+def bare_pyscf(cx, basis: str, density_fitting: bool = True):
+    """The same SCF written by hand: UKS B3LYP, DF, PCM water, superposition-of-atoms guess."""
+    from pyscf import dft, gto
+
+    atoms = [(s, tuple(p)) for s, p in zip(cx.atoms.get_chemical_symbols(), cx.atoms.positions)]
+    mol = gto.M(atom=atoms, basis=basis, charge=cx.charge, spin=cx.multiplicity - 1, symmetry=True, verbose=0)
+    mf = dft.UKS(mol)
+    mf.xc = "B3LYP"
+    mf.conv_tol = 1e-9
+    mf.init_guess = "atom"
+    if density_fitting:
+        mf = mf.density_fit()
+    mf = mf.PCM()
+    mf.with_solvent.eps = 78.36
+    mf.kernel()
+    return mf
+
+
+def main() -> None:
+    from dsplit.analysis.orbitals import build_orbital_table
+    from dsplit.qc.engine import run_calculation
+    from dsplit.qc.setup import resolve_method
+    from dsplit.spec import MethodSpec
+
+    basis = sys.argv[1] if len(sys.argv) > 1 else "def2-SVP"
+    cx = build("Cr", 3, "octahedral", {"fluorido": 6}, bond_length=1.93)
+    t: dict[str, float] = {}
+    with timed(t, "bare"):
+        mf = bare_pyscf(cx, basis)
+    setup = resolve_method(cx, MethodSpec(theory="B3LYP", basis=basis, solvent="water"), threads=None)
+    with timed(t, "dsplit_no_stability"):
+        calc = run_calculation(cx, setup, None, stability=False)
+    with timed(t, "dsplit"):
+        calc_full = run_calculation(cx, setup, None)
+    with timed(t, "analysis"):
+        table = build_orbital_table(calc_full)
+    with timed(t, "bare_4index"):
+        mf4 = bare_pyscf(cx, basis, density_fitting=False)
+    print(f"complex [CrF6]3-, B3LYP/{basis}, PCM water, nao = {calc.mol.nao_nr()}")
+    print(f"bare PySCF SCF                  {t['bare']:8.1f} s   E = {mf.e_tot:.8f}")
+    print(f"dsplit engine (no stability)    {t['dsplit_no_stability']:8.1f} s   E = {calc.energy_hartree:.8f}   "
+          f"ratio {t['dsplit_no_stability'] / t['bare']:.3f}  (target ≤ 1.05)")
+    print(f"dsplit engine (with stability)  {t['dsplit']:8.1f} s   ratio {t['dsplit'] / t['bare']:.3f}  "
+          f"(stability analysis included)")
+    print(f"labels + IAO composition        {t['analysis']:8.2f} s   "
+          f"{100 * t['analysis'] / calc_full.timings['scf']:.1f} % of the SCF (target ≤ 5 %)")
+    print(f"4-index integrals (no DF)       {t['bare_4index']:8.1f} s   DF speed-up "
+          f"{t['bare_4index'] / t['bare']:.2f}× (target ≥ 3×), ΔE(DF − 4-index) = "
+          f"{(mf.e_tot - mf4.e_tot) * 1e6:.1f} µEh")
+
+
+if __name__ == "__main__":
+    main()
