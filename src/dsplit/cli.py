@@ -256,24 +256,42 @@ class ProgressLine:
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), help="Folder for the run (default: ./NAME).")
 @click.option("--start-from", type=click.Path(exists=True, dir_okay=False),
               help="A checkpoint (.chk) of the same complex to start the SCF from.")
+@click.option("--archive", "archive_dir", type=click.Path(), default=None,
+              help="Archive folder (default: $DSPLIT_ARCHIVE, else ./dsplit-archive).")
+@click.option("--recompute", is_flag=True, help="Compute again even if the archive holds this run.")
 @click.option("--quiet", is_flag=True, help="No progress line, no tables.")
 @click.option("--json", "as_json", is_flag=True, help="Print result.json to stdout as well.")
 @handles_errors
 def compute_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
                 theory, basis, solvent, density_fitting, open_shell, threads, memory_mb, out_dir, start_from,
-                quiet, as_json) -> None:
-    """Compute SPEC: verified SCF, full-group orbital labels, splitting, checks, report."""
+                archive_dir, recompute, quiet, as_json) -> None:
+    """Compute SPEC: verified SCF, full-group orbital labels, splitting, checks, report.
+
+    The run lands in the archive (cache hit when the same request is there) unless
+    --out names a plain folder.
+    """
     from pathlib import Path
 
     from dsplit.compute_api import compute
+    from dsplit.errors import InputError
 
+    if out_dir and archive_dir:
+        raise InputError("--out", "give --out DIR (a plain folder) or --archive DIR, not both")
     s = load_full_spec(spec, _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length,
                                         multiplicity),
                        _method_overrides(theory, basis, solvent, density_fitting, open_shell))
-    out = Path(out_dir) if out_dir else Path(s.name)
+    start = Path(start_from) if start_from else None
     with ProgressLine(quiet or as_json) as line:
-        run = compute(s, out, threads=threads, memory_mb=memory_mb, progress=line,
-                      start_from=Path(start_from) if start_from else None)
+        if out_dir:
+            run = compute(s, Path(out_dir), threads=threads, memory_mb=memory_mb, progress=line, start_from=start)
+        else:
+            from dsplit.archive.store import compute_archived
+
+            run = compute_archived(s, archive_dir, recompute=recompute, threads=threads, memory_mb=memory_mb,
+                                   progress=line, start_from=start,
+                                   on_wait=lambda: line.stage("waiting: another process is computing this run"))
+            if run.cached and not (quiet or as_json):
+                click.echo(f"from the archive: {run.out_dir}", err=True)
     if as_json:
         import json
 
@@ -286,6 +304,17 @@ def compute_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bo
         click.echo("dsplit: calculation not verified: " + "; ".join(run.result.get("warnings", [])), err=True)
     sys.exit(run.exit_code)
 
+
+def _register_commands() -> None:
+    """Commands defined in their own modules (imported here: they import from this one)."""
+    from dsplit.cli_archive import archive_group, study_cmd
+    from dsplit.cli_spin import optimize_cmd, spin_states_cmd
+
+    for cmd in (spin_states_cmd, optimize_cmd, study_cmd, archive_group):
+        main.add_command(cmd)
+
+
+_register_commands()
 
 if __name__ == "__main__":  # pragma: no cover
     main()
