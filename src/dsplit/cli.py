@@ -314,7 +314,9 @@ def _register_commands() -> None:
         main.add_command(cmd)
 
 
-_register_commands()
+if __name__ == "__main__":  # pragma: no cover  (python -m dsplit.cli: run the importable module's group)
+    from dsplit.cli import main as _main
 
-if __name__ == "__main__":  # pragma: no cover
-    main()
+    _main()
+else:
+    _register_commands()

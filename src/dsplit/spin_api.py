@@ -188,6 +188,7 @@ def _state_json(run: StateRun, lowest: float | None) -> dict[str, Any]:
            "configuration_verified": bool(calc is not None and calc.configuration_verified),
            "verified": run.ok, "folder": run.folder,
            "warnings": list(calc.warnings) if calc is not None else ["not run"],
+           "notes": list(calc.notes) if calc is not None else [],
            "scf_seconds": calc.timings.get("wall") if calc is not None else None}
     if run.optimization is not None:
         o = run.optimization.to_json()

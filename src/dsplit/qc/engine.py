@@ -302,6 +302,11 @@ def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = Non
     timings["wall"] = time.perf_counter() - t_wall
     timings["cpu"] = time.process_time() - t_cpu
     warnings = []
+    from dsplit.qc.ladder import STABILITY_TOL
+
+    if lowest is not None and lowest < -STABILITY_TOL:
+        notes.append(f"still unstable after {followed} follow(s) (lowest Hessian eigenvalue {lowest:.2e} Eh): "
+                     "an orbitally degenerate state (Jahn–Teller) or a lower solution of another symmetry")
     if mf.converged and np.asarray(mf.mo_occ).ndim == 2:
         ss = float(mf.spin_square()[0])
         exact = (mult - 1) / 2 * ((mult - 1) / 2 + 1)
