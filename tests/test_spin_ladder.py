@@ -8,7 +8,7 @@ Outside references:
   the triplet lies below the closed-shell singlet (Hund's first rule) —
   Shriver & Atkins, Inorganic Chemistry, ligand-field chapter (from memory).
 - at fixed geometry, more exact exchange favours high spin (common practice); HF has
-  100 % and PBE 0 % exact exchange (the functionals' definitions).
+  100 % and BHANDHLYP 50 % exact exchange (the functionals' definitions; PySCF/libxc).
 """
 
 from __future__ import annotations
@@ -76,7 +76,7 @@ def test_bad_input_exit_2_before_any_scf(tmp_path, args, field):
 def vf4_ladder(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("vf4")
     out = tmp / "run"
-    res = CliRunner().invoke(main, ["spin-states", _spec(tmp), "--functionals", "HF,PBE", "--out", str(out),
+    res = CliRunner().invoke(main, ["spin-states", _spec(tmp), "--functionals", "HF,BHANDHLYP", "--out", str(out),
                                     "--quiet", "--threads", "2"])
     return res, out
 
@@ -88,7 +88,7 @@ def test_d2_tetrahedral_ladder(vf4_ladder):
     for f in ("spec.json", "geometry.xyz"):
         assert (out / f).is_file()
     states = doc["spin_states"]
-    assert [(s["theory"], s["multiplicity"]) for s in states] == [("HF", 1), ("HF", 3), ("PBE", 1), ("PBE", 3)]
+    assert [(s["theory"], s["multiplicity"]) for s in states] == [("HF", 1), ("HF", 3), ("BHANDHLYP", 1), ("BHANDHLYP", 3)]
     assert all(s["verified"] and s["converged"] and s["configuration_verified"] for s in states)
     assert all(s["configuration"] == "e^2 t2^0" for s in states)
     assert doc["ground_multiplicity"] == 3 and doc["ground_theory"] == "HF"
@@ -101,9 +101,9 @@ def test_d2_tetrahedral_ladder(vf4_ladder):
     # reuse: every state after the first starts from a neighbour's checkpoint
     assert all(any("started from checkpoint" in n for n in s["notes"]) for s in states[1:])
     spread = {r["theory"]: r for r in doc["functional_spread"]}
-    assert spread["HF"]["exact_exchange"] == 1.0 and spread["PBE"]["exact_exchange"] == 0.0
-    # more exact exchange favours high spin: ΔE(HS − LS) lower with HF than with PBE
-    assert spread["HF"]["delta_hs_ls_kJmol"] < spread["PBE"]["delta_hs_ls_kJmol"]
+    assert spread["HF"]["exact_exchange"] == 1.0 and spread["BHANDHLYP"]["exact_exchange"] == 0.5
+    # more exact exchange favours high spin: ΔE(HS − LS) lower with HF than with BHANDHLYP
+    assert spread["HF"]["delta_hs_ls_kJmol"] < spread["BHANDHLYP"]["delta_hs_ls_kJmol"] < 0
 
 
 def test_unconverged_state_withholds_ground_and_exits_3(tmp_path):

@@ -18,8 +18,8 @@ from dsplit.spec import MethodSpec, Spec
 from tests.conftest import make
 
 
-def _calc(cx, tmp, theory="HF", basis="sto-3g"):
-    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent="none", grid_level=1), threads=2)
+def _calc(cx, tmp, theory="HF", basis="sto-3g", solvent="none"):
+    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent=solvent, grid_level=1), threads=2)
     return run_calculation(cx, setup, tmp, stability=False)
 
 
@@ -27,7 +27,7 @@ def _calc(cx, tmp, theory="HF", basis="sto-3g"):
 def vf4(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("vf4")
     cx = make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4)
-    calc = _calc(cx, tmp)
+    calc = _calc(cx, tmp, theory="B3LYP")
     table = build_orbital_table(calc)
     spec = Spec(name="vf4", complex=None)
     return cx, calc, table, estimate_splitting(spec, cx, calc, table, tmp)
@@ -62,7 +62,9 @@ def test_checks_have_verdicts(vf4):
     _, _, _, out = vf4
     names = {c["name"]: c["verdict"] for c in out["checks"]}
     assert names["set order"] == "agrees"  # Td: e below t2 (textbook)
-    assert names["degeneracy pattern"] == "agrees"
+    # d1 in Td is a 2E term: its open-shell density is less symmetric than the framework, so the
+    # sets split and the degeneracy check is not applicable (Jahn–Teller; common practice)
+    assert names["degeneracy pattern"] == "not applicable"
     assert set(names.values()) <= {"agrees", "differs", "not applicable"}
 
 
@@ -74,10 +76,11 @@ def test_no_spin_allowed_band_for_high_spin_d5(tmp_path):
 
 
 def test_spectrochemical_order_of_state_estimator(tmp_path):
+    # one M(III) (Cr), fixed method (HF/STO-3G, PCM water so that 3+ and 3− ions are comparable)
     deltas = {}
     for lig in ("fluorido", "aqua", "ammine", "cyanido"):
         cx = make("Cr", "octahedral", {lig: 6}, oxidation_state=3)
-        calc = _calc(cx, tmp_path / lig)
+        calc = _calc(cx, tmp_path / lig, solvent="water")
         assert calc.ok, (lig, calc.configuration_found)
         st = state_estimator(calc, choose_transition(calc), tmp_path / lig)
         assert st["configuration_verified"], lig

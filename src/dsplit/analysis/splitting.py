@@ -292,7 +292,9 @@ def _restricted_open_gap(calc: Calculation, lower: str, upper: str, folder, prog
     if lower not in by_label or upper not in by_label:
         return {**energy_block(None), "restricted_open": "sets not found"}
     gap = float(np.mean(e[by_label[upper]]) - np.mean(e[by_label[lower]]))
-    return {**energy_block(gap), "restricted_open": type(mf).__name__}
+    sets = [{"label": p.label, "degeneracy": len(p.mo_indices), "energy_eV": hartree_to_ev(float(np.mean(e[p.mo_indices])))}
+            for p in picks[0]]
+    return {**energy_block(gap), "restricted_open": type(mf).__name__, "restricted_open_sets": sets}
 
 
 def estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=None) -> dict[str, Any]:

@@ -164,6 +164,7 @@ def build_result(spec, cx, calc, table=None, extra: dict[str, Any] | None = None
     }
     if table is not None:
         doc["point_group"] = {"labels": table.point_group, "donor_set": table.donor_point_group,
+                              "framework": table.framework_group or table.point_group,
                               "scf_subgroup": table.abelian_group}
         doc["manifold"] = manifold_section(table)
         doc["manifold_warnings"] = [w for ch in table.channels for w in ch.manifold.warnings]
