@@ -241,6 +241,8 @@ def optimize_symmetric(cx: Complex, setup, folder: Path | None, *, multiplicity:
     from ase.io import Trajectory
 
     check_optimizable(cx, setup, full=False)
+    if folder is not None:
+        folder.mkdir(parents=True, exist_ok=True)
     sets = ligand_sets(cx)
     ev = DsplitCalculator(cx, setup, folder, multiplicity=multiplicity, target_occupations=target_occupations,
                           start_from=start_from, tag=tag, progress=progress)
@@ -315,6 +317,8 @@ def optimize_full(cx: Complex, setup, folder: Path | None, *, multiplicity: int 
     from ase.optimize import BFGS
 
     check_optimizable(cx, setup, full=True)
+    if folder is not None:
+        folder.mkdir(parents=True, exist_ok=True)
     calc = DsplitCalculator(cx, setup, folder, multiplicity=multiplicity, target_occupations=target_occupations,
                             start_from=start_from, tag=tag, progress=progress)
     atoms = cx.atoms.copy()

@@ -1,0 +1,43 @@
+"""The state estimator along the spectrochemical series for chromium(III) (not run in CI).
+
+Expected order (Tsuchida's series, e.g. Shriver & Atkins, Inorganic Chemistry — from memory):
+F⁻ < H2O < NH3 < CN⁻.  Prints Δ(state) per ligand and whether the order holds.
+Run: python benchmarks/spectrochemical_order.py [theory] [basis]   (default B3LYP 3-21G, PCM water)
+"""
+
+from __future__ import annotations
+
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+
+def main() -> None:
+    from dsplit.analysis.splitting import choose_transition, state_estimator
+    from dsplit.geometry.build import ComplexRequest, build_complex
+    from dsplit.qc.engine import run_calculation
+    from dsplit.qc.setup import resolve_method
+    from dsplit.spec import MethodSpec
+
+    theory = sys.argv[1] if len(sys.argv) > 1 else "B3LYP"
+    basis = sys.argv[2] if len(sys.argv) > 2 else "3-21G"
+    deltas = {}
+    for lig in ("fluorido", "aqua", "ammine", "cyanido"):
+        t0 = time.perf_counter()
+        cx = build_complex(ComplexRequest("series", "Cr", "octahedral", {lig: 6}, oxidation_state=3))
+        setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent="water"))
+        with tempfile.TemporaryDirectory() as tmp:
+            calc = run_calculation(cx, setup, Path(tmp), stability=False)
+            st = state_estimator(calc, choose_transition(calc), Path(tmp)) if calc.ok else {}
+        deltas[lig] = st.get("delta_eV")
+        print(f"{lig:<10} Δ(state) = {deltas[lig]} eV  verified {st.get('configuration_verified')}  "
+              f"{time.perf_counter() - t0:.0f} s", flush=True)
+    have = {k: v for k, v in deltas.items() if v is not None}
+    order = sorted(have, key=have.get)
+    print("order found:", " < ".join(order), "| expected: fluorido < aqua < ammine < cyanido |",
+          "agrees" if order == ["fluorido", "aqua", "ammine", "cyanido"] else "differs")
+
+
+if __name__ == "__main__":
+    main()
