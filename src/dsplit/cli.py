@@ -35,7 +35,33 @@ def handles_errors(func):
     return wrapper
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+class LazyGroup(click.Group):
+    """A click group whose commands from other modules load on first use.
+
+    Those modules import from this one (shared options, error handling), so they cannot
+    be imported while this module loads.
+    """
+
+    LAZY = {
+        "spin-states": ("dsplit.cli_spin", "spin_states_cmd"),
+        "optimize": ("dsplit.cli_spin", "optimize_cmd"),
+        "study": ("dsplit.cli_archive", "study_cmd"),
+        "archive": ("dsplit.cli_archive", "archive_group"),
+    }
+
+    def list_commands(self, ctx):
+        return sorted(set(super().list_commands(ctx)) | set(self.LAZY))
+
+    def get_command(self, ctx, name):
+        if name in self.LAZY and name not in self.commands:
+            import importlib
+
+            module, attr = self.LAZY[name]
+            self.add_command(getattr(importlib.import_module(module), attr), name)
+        return super().get_command(ctx, name)
+
+
+@click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="dsplit")
 def main() -> None:
     """d-orbital splitting of transition-metal complexes.
@@ -305,18 +331,7 @@ def compute_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bo
     sys.exit(run.exit_code)
 
 
-def _register_commands() -> None:
-    """Commands defined in their own modules (imported here: they import from this one)."""
-    from dsplit.cli_archive import archive_group, study_cmd
-    from dsplit.cli_spin import optimize_cmd, spin_states_cmd
-
-    for cmd in (spin_states_cmd, optimize_cmd, study_cmd, archive_group):
-        main.add_command(cmd)
-
-
 if __name__ == "__main__":  # pragma: no cover  (python -m dsplit.cli: run the importable module's group)
     from dsplit.cli import main as _main
 
     _main()
-else:
-    _register_commands()
