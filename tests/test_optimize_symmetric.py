@@ -73,6 +73,7 @@ def test_symmetric_optimum_is_a_minimum(tif4_opt):
     assert res.symmetry_kept and res.final_group == "Td"
     assert res.energy_change < 0
     assert res.trajectory is not None and res.trajectory.is_file()
+    assert any("started from checkpoint" in n for n in res.calculation.notes)  # density reused step to step
     sets = ligand_sets(cx)
     r = set_distances(res.final, sets)
     e0 = res.steps[-1].energy_hartree

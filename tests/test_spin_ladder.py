@@ -4,9 +4,10 @@ Outside references:
 - S(S+1) for 2S+1 = 1, 2, 3, 5: 0, 3/4, 2, 6 (any quantum-mechanics text, from memory);
 - 1 kcal = 4.184 kJ exactly (thermochemical calorie, from memory; SI brochure note);
   1 eV ≈ 8065.54 cm⁻¹ and 1 Eh ≈ 2625.50 kJ/mol (CODATA 2018, from memory);
-- tetrahedral dⁿ complexes are high spin; for e² two electrons in a degenerate set,
-  the triplet lies below the closed-shell singlet (Hund's first rule) —
-  Shriver & Atkins, Inorganic Chemistry, ligand-field chapter (from memory).
+- tetrahedral dⁿ complexes are high spin (Δt ≈ 4/9 Δo is below the pairing energy);
+  for e² two electrons in a degenerate set, the triplet lies below the closed-shell
+  singlet (Hund's first rule) — Shriver & Atkins, Inorganic Chemistry, ligand-field
+  chapter (from memory).
 - at fixed geometry, more exact exchange favours high spin (common practice); HF has
   100 % and BHANDHLYP 50 % exact exchange (the functionals' definitions; PySCF/libxc).
 """
@@ -23,7 +24,7 @@ from dsplit.spin_api import parse_multiplicities, relative_energies, spin_contam
 
 VF4 = ('name = "vf4"\n[complex]\nmetal = "V"\noxidation_state = 3\ngeometry = "tetrahedral"\n'
        'ligands = { fluorido = 4 }\nbond_length = 1.85\n[method]\ntheory = "HF"\nbasis = "sto-3g"\n'
-       'density_fitting = false\n')
+       'density_fitting = false\ngrid_level = 1\n')  # coarse DFT grid: a test of trends, not of numbers
 
 
 def _spec(tmp_path, text=VF4, extra: str = "") -> str:
@@ -115,3 +116,22 @@ def test_unconverged_state_withholds_ground_and_exits_3(tmp_path):
     assert doc["ground_multiplicity"] is None and "ground_withheld" in doc
     assert any(not s["verified"] and s["relative_kJmol"] is None for s in doc["spin_states"])
     assert doc["checks"][0]["verdict"] == "not applicable"
+
+
+MNF4 = ('name = "mnf4"\n[complex]\nmetal = "Mn"\noxidation_state = 3\ngeometry = "tetrahedral"\n'
+        'ligands = { fluorido = 4 }\nbond_length = 1.80\n[method]\ntheory = "HF"\nbasis = "3-21g"\n'
+        'density_fitting = false\n')
+
+
+def test_d4_tetrahedral_is_high_spin(tmp_path):
+    """d4 in Td: high spin e²t2² (5) below low spin e⁴ (1) — a real Δ-vs-pairing choice."""
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["spin-states", _spec(tmp_path, MNF4), "--multiplicities", "1,5", "--out", str(out),
+                                    "--quiet", "--threads", "2"])
+    assert res.exit_code == 0, res.output
+    doc = json.loads((out / "result.json").read_text())
+    by_m = {s["multiplicity"]: s for s in doc["spin_states"]}
+    assert by_m[1]["configuration"] == "e^4 t2^0" and by_m[5]["configuration"] == "e^2 t2^2"
+    assert doc["ground_multiplicity"] == 5 and by_m[1]["relative_kJmol"] > 0
+    assert doc["spin_prediction"]["multiplicity"] == 5 and doc["checks"][0]["verdict"] == "agrees"
+    assert by_m[5]["spin_square_expected"] == pytest.approx(6.0) and by_m[5]["spin_contaminated"] is False

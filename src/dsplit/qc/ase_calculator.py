@@ -68,6 +68,41 @@ def nuclear_gradient(calc) -> np.ndarray:
     return de / Bohr
 
 
+def carry_checkpoint(previous: Path, cx: Complex, setup, multiplicity: int | None, path: Path) -> Path:
+    """A checkpoint of ``previous``'s orbitals made fit for the geometry of ``cx``.
+
+    The occupied MOs of each spin are Löwdin-orthonormalised in the new overlap S′:
+    C′ = C (Cᵀ S′ C)^(−1/2) (Löwdin, J. Chem. Phys. 18, 365 (1950)), so the guess
+    density holds exactly N electrons at the new positions; PySCF's own chkfile guess
+    keeps the old coefficients, whose density no longer integrates to N once the atoms
+    have moved (the engine then falls back to atoms).  Same basis and atoms required,
+    else ``previous`` is returned unchanged.
+    """
+    from pyscf import gto
+    from pyscf.scf import chkfile
+
+    from dsplit.qc.setup import build_mole
+
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        old_mol, rec = chkfile.load_scf(str(previous))
+        mol, _ = build_mole(cx, setup, multiplicity)
+    if old_mol.natm != mol.natm or not gto.same_basis_set(old_mol, mol):
+        return previous
+    s = mol.intor_symmetric("int1e_ovlp")
+
+    def orthonormal(c: np.ndarray, occ: np.ndarray) -> np.ndarray:
+        c = np.array(c, dtype=float)
+        idx = np.asarray(occ) > 0
+        w, v = np.linalg.eigh(c[:, idx].T @ s @ c[:, idx])
+        c[:, idx] = c[:, idx] @ (v / np.sqrt(w)) @ v.T
+        return c
+
+    mo, occ = np.asarray(rec["mo_coeff"]), np.asarray(rec["mo_occ"])
+    new = orthonormal(mo, occ) if occ.ndim == 1 else np.array([orthonormal(mo[k], occ[k]) for k in range(2)])
+    chkfile.dump_scf(mol, str(path), float(rec["e_tot"]), rec["mo_energy"], new, occ)
+    return path
+
+
 class DsplitCalculator(Calculator):
     """ASE calculator over dsplit's engine (see module docstring).
 
@@ -106,10 +141,17 @@ class DsplitCalculator(Calculator):
 
         cx = complex_at(self.template, positions)
         n = len(self.calculations)
-        prev = self.last.chk_path if self.last is not None else self.start_from
+        ok = [c for c in self.calculations if c.ok and c.chk_path is not None]
+        prev = ok[-1].chk_path if ok else self.start_from
+        guess = None
+        if prev is not None and Path(prev).is_file() and self.folder is not None:
+            guess = carry_checkpoint(Path(prev), cx, self.setup, self.multiplicity,
+                                     self.folder / f"{self.tag}-{n:03d}-guess.chk")
         calc = run_calculation(cx, self.setup, self.folder, multiplicity=self.multiplicity,
-                               target_occupations=self.target_occupations, start_from=prev,
+                               target_occupations=self.target_occupations, start_from=guess,
                                stability=n == 0, progress=self.progress, tag=f"{self.tag}-{n:03d}")
+        if guess is not None and guess != prev:
+            guess.unlink(missing_ok=True)
         if not calc.ok:
             self.calculations.append(calc)
             raise CalculationError(f"evaluation {n}: " + ("; ".join(calc.warnings) or "SCF not verified"))

@@ -15,7 +15,7 @@ is on).  Steps are quasi-Newton in the few r_k: a diagonal start Hessian of
 K_GUESS per ligand of the set (common practice: a metal–ligand stretch force
 constant is a few mdyn/Å, 1 Eh/Å² ≈ 4.36 mdyn/Å), BFGS updates (Nocedal &
 Wright, Numerical Optimization, 2nd ed., eq. 6.19 — from memory), at most
-MAX_STEP Å per coordinate, and backtracking when the energy rises.  Converged
+MAX_STEP Å per coordinate, and backtracking when the energy rises or an SCF fails.  Converged
 when every |∂E/∂r_k| ≤ threshold (Hartree/Å, default GRADIENT_THRESHOLD).
 
 Full mode is unconstrained: ``ase.optimize.BFGS`` drives ``DsplitCalculator``
@@ -47,6 +47,7 @@ K_GUESS = 0.3  # Hartree/Å² per ligand, start curvature of a breathing coordin
 MAX_STEP = 0.15  # Å, largest change of one distance per step
 SYMMETRY_TOLERANCE = 0.01  # Å, detect_point_group tolerance for "symmetry kept"
 UPHILL = 1e-8  # Hartree, an energy rise larger than this triggers backtracking
+MAX_RETRIES = 2  # failed SCFs retried with half the step
 
 
 @dataclass(frozen=True)
@@ -252,15 +253,21 @@ def optimize_symmetric(cx: Complex, setup, folder: Path | None, *, multiplicity:
     hess = np.diag([K_GUESS * len(s.members) for s in sets])
     best: tuple[np.ndarray, float, np.ndarray] | None = None
     steps: list[OptimizationStep] = []
-    converged, failure, last_cx = False, None, cx
+    converged, failure, last_cx, retries = False, None, cx, 0
+    notes = [f"ligand sets: {', '.join(f'{s.label} ×{len(s.members)}' for s in sets)}"]
     try:
         while len(steps) < max_steps:
             t0 = time.perf_counter()
             try:
                 calc, grad = ev.evaluate(positions_at(cx, sets, x))
-            except CalculationError as exc:
-                failure = str(exc)
-                break
+            except CalculationError as exc:  # a failed SCF: retry a shorter step from the best point
+                if best is None or retries == MAX_RETRIES:
+                    failure = str(exc)
+                    break
+                retries += 1
+                notes.append(f"{exc}; retried half the step")
+                x = best[0] + 0.5 * (x - best[0])
+                continue
             last_cx = calc.complex
             e, g = calc.energy_hartree, set_gradient(last_cx, sets, grad)
             steps.append(OptimizationStep(len(steps), e, float(np.max(np.abs(g))),
@@ -288,7 +295,6 @@ def optimize_symmetric(cx: Complex, setup, folder: Path | None, *, multiplicity:
         failure = f"not converged in {max_steps} steps (largest |∂E/∂r| {steps[-1].max_gradient:.2e} Eh/Å)"
     verified = [c for c in ev.calculations if c.ok]
     final_calc = verified[-1] if verified else ev.last
-    notes = [f"ligand sets: {', '.join(f'{s.label} ×{len(s.members)}' for s in sets)}"]
     return OptimizationResult(
         mode="symmetric", converged=converged, threshold=threshold,
         threshold_meaning="every |∂E/∂r| ≤ threshold, r = the distance of one symmetry-distinct ligand set "
