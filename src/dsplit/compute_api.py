@@ -87,7 +87,13 @@ def compute(spec: Spec, out_dir: Path, *, threads: int | None = None, memory_mb:
         elif not calc.ok:
             extra["splitting"] = None
             extra["splitting_withheld"] = "the calculation did not converge or its configuration was not verified"
+        failed = [name for name, est in (extra.get("splitting") or {}).items()
+                  if isinstance(est, dict) and est.get("configuration_verified") is False]
+        if failed:
+            extra["estimators_failed"] = failed
         doc = build_result(spec, cx, calc, table, extra)
+        if failed:
+            doc["warnings"].append(f"estimator calculation not verified, value withheld: {', '.join(failed)}")
         _write_geometry(cx, tmp_dir)
         write_json_atomic(tmp_dir / "spec.json", spec.normalised())
         write_json_atomic(tmp_dir / "result.json", doc)

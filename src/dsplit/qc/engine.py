@@ -397,17 +397,23 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
         method = "maximum-overlap"
     dm = mf.make_rdm1(mo_arr, occ_arr)
     mf, rungs = run_ladder(mf, dm, progress, rungs=("diis", "level-shift"))
-    if not mf.converged and method == "irrep_nelec":
-        notes.append("block-fixed excited SCF did not converge; retried with maximum overlap")
+    projector = orthogonal_projector(mol)
+    verified, picks, found = (False, [], "not checked")
+    if mf.converged:
+        verified, picks, found = check_configuration(mf, cx, projector, target_alpha, target_beta)
+    if method == "irrep_nelec" and not (mf.converged and verified):
+        # the block may hold a lower non-d orbital (e.g. metal 4s in a1g beside eg): keep the d orbital
+        notes.append("block-fixed excited SCF " + ("landed in " + found if mf.converged else "did not converge")
+                     + "; retried with maximum overlap")
         mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
+        mf.conv_tol = EXCITED_CONV_TOL
         mf = scf.addons.mom_occ(mf, mo_arr, occ_arr)
         method = "maximum-overlap"
         mf, more = run_ladder(mf, mf.make_rdm1(mo_arr, occ_arr), progress, rungs=("diis", "level-shift"))
         rungs += more
-    verified, picks, found = (False, [], "not checked")
-    if mf.converged:
-        projector = orthogonal_projector(mol)
-        verified, picks, found = check_configuration(mf, cx, projector, target_alpha, target_beta)
+        verified, picks, found = (False, [], "not checked")
+        if mf.converged:
+            verified, picks, found = check_configuration(mf, cx, projector, target_alpha, target_beta)
     occ_total = [a + b for a, b in zip(target_alpha, target_beta)]
     warnings = [] if (mf.converged and verified) else [
         "excited configuration did not converge" if not mf.converged else f"excited SCF landed in {found}"]
