@@ -22,7 +22,7 @@ from dsplit.cli import main  # registers dsplit.cli_spin's commands
 from dsplit.spec import MethodSpec
 
 TIF4 = dict(metal="Ti", geometry="tetrahedral", ligands={"fluorido": 4}, oxidation_state=4, bond_length=1.78)
-HF_MINIMAL = MethodSpec(theory="HF", basis="sto-3g", solvent="none")
+HF_MINIMAL = MethodSpec(theory="HF", basis="sto-3g", solvent="none", density_fitting=False)
 
 
 def _setup(cx, method=HF_MINIMAL):
@@ -49,26 +49,29 @@ def test_full_keeps_td_and_is_a_breathing_minimum(tmp_path):
     assert abs(g[0]) <= GRADIENT_THRESHOLD
 
 
-def test_ase_calculator_forces_match_central_differences(build, tmp_path):
-    """Open shell (UHF doublet, d1 VF4) with PCM water: the solvent term is in the gradient too."""
+@pytest.mark.parametrize("metal,ox,solvent", [("V", 4, "none"), ("Ti", 4, "water")],
+                         ids=["open-shell UHF d1 VF4, gas phase", "closed-shell TiF4, PCM water"])
+def test_ase_calculator_forces_match_central_differences(build, tmp_path, metal, ox, solvent):
+    """Both the open-shell gradient and the PCM solvent term of the gradient, against energies."""
     from ase.calculators.test import calculate_numerical_forces
 
     from dsplit.qc.ase_calculator import DsplitCalculator
 
-    cx = build("V", "tetrahedral", {"fluorido": 4}, oxidation_state=4, bond_length=1.80)
-    setup = _setup(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="water", density_fitting=False))
+    cx = build(metal, "tetrahedral", {"fluorido": 4}, oxidation_state=ox, bond_length=1.80)
+    setup = _setup(cx, MethodSpec(theory="HF", basis="sto-3g", solvent=solvent, density_fitting=False))
     atoms = cx.atoms.copy()
     rng = np.random.default_rng(7)
     atoms.positions[1:] += rng.normal(scale=0.04, size=(4, 3))  # break the symmetry: non-trivial forces
     atoms.calc = DsplitCalculator(cx, setup, tmp_path)  # later SCFs start from the previous checkpoint
-    analytic = atoms.get_forces()[2, 2]  # one fluorine, z (eV/Å); each component costs two PCM SCFs
+    analytic = atoms.get_forces()[2, 2]  # one fluorine, z (eV/Å); each component costs two SCFs
     numeric = calculate_numerical_forces(atoms, eps=2e-3, iatoms=[2], icarts=[2])[0, 0]
     assert abs(analytic) > 0.05  # really non-zero
     assert analytic == pytest.approx(numeric, abs=2e-3)  # FD error O(eps²) + SCF noise ~1e-5 eV/Å
 
 
 def _write_spec(tmp_path, **extra_method) -> str:
-    method = {"theory": '"HF"', "basis": '"sto-3g"', "solvent": '"none"', **extra_method}
+    method = {"theory": '"HF"', "basis": '"sto-3g"', "solvent": '"none"', "density_fitting": "false",
+              **extra_method}
     body = "\n".join(f"{k} = {v}" for k, v in method.items())
     path = tmp_path / "tif4.toml"
     path.write_text('name = "tif4"\n[complex]\nmetal = "Ti"\noxidation_state = 4\ngeometry = "tetrahedral"\n'

@@ -49,19 +49,17 @@ def check_gradient_support(cx: Complex) -> None:
 def nuclear_gradient(calc) -> np.ndarray:
     """∂E/∂R in Hartree/Å for every atom of ``calc.complex`` (PySCF analytic gradient, incl. PCM).
 
-    When PySCF cannot symmetrise the gradient in the group it ran in, the raw gradient
-    is used (from a symmetric density it is symmetric to numerical precision).
+    PySCF symmetrises the gradient only when it ran in the molecule's top group (it
+    fails, e.g., for Td run in D2); otherwise the raw gradient is used — from a
+    symmetric density it is symmetric to numerical precision.
     """
     with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
         grad = calc.mf.nuc_grad_method()
         grad.verbose = calc.mf.verbose
-        try:
-            de = grad.kernel()
-        except Exception as exc:  # PySCF's own symmetrisation can fail on a subgroup (e.g. Td run in D2)
-            if "ymmetry" not in str(exc) and "ymmetry" not in type(exc).__name__:
-                raise
+        mol = calc.mf.mol
+        if mol.symmetry and mol.groupname != mol.topgroup:  # PySCF symmetrises in the top group only
             grad.symmetrize = lambda de, atmlst=None: de
-            de = grad.kernel()
+        de = grad.kernel()
         de = np.asarray(de, dtype=float)
     if de.shape != calc.complex.atoms.positions.shape:
         raise CalculationError(f"gradient has shape {de.shape}, expected {calc.complex.atoms.positions.shape}")
