@@ -4,7 +4,9 @@ Same start, same method, same gradient threshold; printed side by side: wall tim
 energy/gradient evaluations, final energy and M–L distance; then the time ratio and
 the energy difference (both should reach the same minimum of a symmetric start).
 Run: python benchmarks/optimize_symmetric_vs_full.py [SPEC.toml] [--threads 2]
-Default complex: TiF4 (d0, tetrahedral) at 1.90 Å, HF/STO-3G without density fitting.
+Default complex: [Mn(CO)6]+ (d6 low spin, octahedral) at 1.85 Å, HF/STO-3G without density
+fitting, gas phase: the full mode also relaxes the C–O bonds that the symmetric mode keeps
+rigid, so the energy difference measures that approximation.
 """
 
 from __future__ import annotations
@@ -14,9 +16,9 @@ import tempfile
 import time
 from pathlib import Path
 
-DEFAULT = {"name": "tif4-bench", "complex": {"metal": "Ti", "oxidation_state": 4, "geometry": "tetrahedral",
-                                             "ligands": {"fluorido": 4}, "bond_length": 1.90},
-           "method": {"theory": "HF", "basis": "sto-3g", "density_fitting": False}}
+DEFAULT = {"name": "mnco6-bench", "complex": {"metal": "Mn", "oxidation_state": 1, "geometry": "octahedral",
+                                              "ligands": {"carbonyl": 6}, "bond_length": 1.85},
+           "method": {"theory": "HF", "basis": "sto-3g", "density_fitting": False, "solvent": "none"}}
 
 
 def main() -> None:

@@ -7,10 +7,16 @@ state has the longer Fe–L bond, by about 0.2 Å for iron(II) (common practice;
 B3LYP, PCM water for the 4− ion; each SCF minutes), so it lives here.
 
 Method: B3LYP/3-21G, restricted open shell for the high-spin state (ROKS: with
-unrestricted orbitals the α d levels sink into the ligand band and the engine's
-d-configuration check does not verify them at this basis — measured), solvent by
-the project default (PCM water for |charge| ≥ 2) unless --gas.
-Run: python benchmarks/spin_iron_pair.py [--optimize] [--threads 2] [--basis 3-21g]
+unrestricted orbitals the engine's d-configuration check did not verify the
+high-spin state at this basis — measured), solvent by the project default (PCM
+water for |charge| ≥ 2) unless --gas.
+Measured here (PySCF 2.14, 2 shared cores, B3LYP/3-21G, fixed distances, states run
+one by one with the same code): [Fe(H2O)6]2+ gas phase — 1 (t2g^6, RKS) and 5 (t2g^4 eg^2,
+ROKS) both verified, ΔE(HS − LS) = −254.9 kJ/mol → high spin, agrees (≈ 12 min);
+unrestricted 5 was NOT verified (engine check found t2g^1 eg^2).  [Fe(CN)6]4− PCM water —
+the 1 SCF converged (−1812.1168 Eh) but the engine's d-configuration check rejected it
+and its maximum-overlap steering ended 644 Eh higher: withheld (see the issue-6 report).
+Run: python benchmarks/spin_iron_pair.py [--optimize] [--threads 2] [--basis 3-21g] [--gas]
 Prints per complex: ΔE(HS − LS) in kJ/mol, the ground state, the ligand-field
 expectation and verdict, and with --optimize the optimised Fe–L distance per state.
 """

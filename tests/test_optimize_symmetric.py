@@ -19,7 +19,7 @@ from dsplit.spec import MethodSpec
 from dsplit.symmetry.detect import detect_point_group
 
 # TiF4: d0, neutral, closed shell; HF/STO-3G is a few seconds per step (common practice: tiny test model)
-TIF4 = dict(metal="Ti", geometry="tetrahedral", ligands={"fluorido": 4}, oxidation_state=4, bond_length=1.78)
+TIF4 = dict(metal="Ti", geometry="tetrahedral", ligands={"fluorido": 4}, oxidation_state=4, bond_length=1.74)
 HF_MINIMAL = MethodSpec(theory="HF", basis="sto-3g", solvent="none", density_fitting=False)
 
 

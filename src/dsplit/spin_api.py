@@ -237,16 +237,16 @@ def _main_run(runs: list[StateRun], ground: int | None) -> StateRun:
     return next((r for r in first if r.multiplicity == ground), None) or next((r for r in first if r.ok), first[0])
 
 
-def _prepare(spec: Spec, threads: int | None, memory_mb: int | None):
-    from dsplit.compute_api import preflight
-
-    return preflight(spec, threads, memory_mb)
+def _temp_folder(out_dir: Path) -> Path:
+    """The run is built here, next to ``out_dir``, and renamed into place when finished."""
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    return Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
 
 
 def _finish(spec: Spec, cx, calc, extra: dict[str, Any], tmp_dir: Path, out_dir: Path, write_reports: bool):
     """result.json + spec.json + geometry.xyz (+ reports) into tmp_dir, then rename into place."""
     from dsplit.build_api import write_geometry
-    from dsplit.compute_api import _replace_dir, write_json_atomic
+    from dsplit.compute_api import _replace_dir, _write_reports, write_json_atomic
     from dsplit.report.result import build_result
 
     doc = build_result(spec, cx, calc, None, extra)
@@ -254,12 +254,7 @@ def _finish(spec: Spec, cx, calc, extra: dict[str, Any], tmp_dir: Path, out_dir:
     write_json_atomic(tmp_dir / "spec.json", spec.normalised())
     write_json_atomic(tmp_dir / "result.json", doc)
     if write_reports:
-        try:
-            from dsplit.report.render import write_reports as render
-        except ImportError:
-            render = None
-        if render is not None:
-            render(doc, tmp_dir)
+        _write_reports(doc, tmp_dir)  # dsplit.report.render when present (ImportError guarded there)
     _replace_dir(tmp_dir, out_dir)
     return doc
 
@@ -269,11 +264,12 @@ def spin_states(spec: Spec, out_dir: Path, *, multiplicities: str | list[int] | 
                 threads: int | None = None, memory_mb: int | None = None, progress: Callable | None = None,
                 threshold: float | None = None, max_steps: int | None = None, write_reports: bool = True):
     """The spin-state ladder of ``spec``; returns compute_api.RunOutput (exit 3 if any state failed)."""
-    from dsplit.compute_api import RunOutput
+    from dsplit.compute_api import RunOutput, preflight
     from dsplit.qc.optimize import check_optimizable
     from dsplit.qc.setup import resolve_method
 
-    cx, setup = _prepare(spec, threads, memory_mb)
+    out_dir = Path(out_dir)
+    cx, setup = preflight(spec, threads, memory_mb)
     mults = parse_multiplicities(",".join(map(str, multiplicities)) if isinstance(multiplicities, list)
                                  else multiplicities, cx.d_count)
     names = parse_functionals(",".join(functionals) if isinstance(functionals, list) else functionals,
@@ -282,9 +278,7 @@ def spin_states(spec: Spec, out_dir: Path, *, multiplicities: str | list[int] | 
               for n in names]
     if optimize:
         check_optimizable(cx, setup, full=False)
-    out_dir = Path(out_dir)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    tmp_dir = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    tmp_dir = _temp_folder(out_dir)
     try:
         runs = run_ladder(cx, setups, tmp_dir, mults, optimize=optimize, reuse=reuse, progress=progress,
                           threshold=threshold, max_steps=max_steps)
@@ -306,15 +300,14 @@ def optimize_geometry(spec: Spec, out_dir: Path, *, full: bool = False, threshol
                       write_reports: bool = True):
     """Optimise ``spec``'s complex in its spec/default state; RunOutput (exit 3 if not converged/verified)."""
     from dsplit.build_api import write_geometry
-    from dsplit.compute_api import RunOutput
+    from dsplit.compute_api import RunOutput, preflight
     from dsplit.errors import CalculationError
     from dsplit.qc.optimize import check_optimizable, optimize
 
-    cx, setup = _prepare(spec, threads, memory_mb)
-    check_optimizable(cx, setup, full=full)
     out_dir = Path(out_dir)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    tmp_dir = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    cx, setup = preflight(spec, threads, memory_mb)
+    check_optimizable(cx, setup, full=full)
+    tmp_dir = _temp_folder(out_dir)
     kw = {k: v for k, v in (("threshold", threshold), ("max_steps", max_steps)) if v is not None}
     try:
         res = optimize(cx, setup, tmp_dir, full=full, start_from=start_from, progress=progress, **kw)

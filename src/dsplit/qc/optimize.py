@@ -30,7 +30,7 @@ written to an ASE trajectory (``ase.io.Trajectory``, energies in eV, forces in e
 from __future__ import annotations
 
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -345,11 +345,13 @@ def optimize_full(cx: Complex, setup, folder: Path | None, *, multiplicity: int 
     final_cx = final.complex if final is not None else cx
     if not converged and failure is None:
         failure = f"not converged in {max_steps} steps (largest force {steps[-1].max_gradient:.2e} Eh/Å)"
+    group = _point_group(final_cx)
+    final_cx = replace(final_cx, exact_point_group=group)  # the group may have dropped on the way
     return OptimizationResult(
         mode="full", converged=converged, threshold=threshold,
         threshold_meaning="largest atomic |∂E/∂R| ≤ threshold (ase.optimize.BFGS fmax, converted to eV/Å)",
         steps=steps, initial=cx, final=final_cx, calculation=final, trajectory=traj_path,
-        start_group=cx.exact_point_group, final_group=_point_group(final_cx),
+        start_group=cx.exact_point_group, final_group=group,
         gradient_model=gradient_model(setup), failure=failure)
 
 
