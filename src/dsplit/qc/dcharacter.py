@@ -56,13 +56,25 @@ class SetPick:
     occupation: float
 
 
-def pick_d_based(weights: np.ndarray, mo_occ: np.ndarray, sets: list[DSet]) -> list[SetPick]:
-    """Greedy pick: the MOs with the largest weight on each set's d subspace (no MO twice)."""
+#: only MOs below ε_LUMO + this (Eh) can be d-based: inner-d and polarisation virtuals of
+#: split-valence bases carry large d weights several Eh higher (common practice: valence window)
+VALENCE_WINDOW_ABOVE_LUMO = 1.0
+
+
+def pick_d_based(weights: np.ndarray, mo_occ: np.ndarray, sets: list[DSet],
+                 mo_energy: np.ndarray | None = None) -> list[SetPick]:
+    """Greedy pick: the MOs with the largest weight on each set's d subspace (no MO twice),
+    among the MOs of the valence window when energies are given."""
     per_set = []
     for s in sets:
         rows = [D_ORBITALS.index(o) for o in s.orbitals]
         per_set.append(weights[rows].sum(axis=0))
     per_set = np.array(per_set)
+    if mo_energy is not None:
+        e = np.asarray(mo_energy)
+        empty = e[np.asarray(mo_occ) < 1e-6]
+        top = (empty.min() if len(empty) else e.max()) + VALENCE_WINDOW_ABOVE_LUMO
+        per_set[:, e > top] = -1.0  # never picked while a valence MO is left
     need = {i: s.degeneracy for i, s in enumerate(sets)}
     chosen: dict[int, list[int]] = {i: [] for i in range(len(sets))}
     used: set[int] = set()

@@ -29,6 +29,7 @@ from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupat
 MAX_STABILITY_FOLLOWS = 2
 SPIN_CONTAMINATION_TOL = 0.1  # |⟨S²⟩ − S(S+1)| above 10 % (or 0.1 for S ≤ 1/2): flagged (common practice)
 EXCITED_CONV_TOL = 1e-8  # Eh; ΔSCF energies are reported to 1e-5 eV at most
+IMPLAUSIBLE_STEER_RISE = 0.5  # Eh (~13.6 eV): a steered ground configuration this far up is not a d state
 
 
 @dataclass
@@ -94,7 +95,7 @@ def check_configuration(mf, cx: Complex, projector: np.ndarray, target_alpha: li
                         target_beta: list[int]) -> tuple[bool, list[list[SetPick]], str]:
     """Compare the d-based MO occupations with the target, per spin."""
     chans = _channels(mf)
-    picks = [pick_d_based(d_weights(mf.mol, c, projector), o, cx.d_sets) for c, o, _ in chans]
+    picks = [pick_d_based(d_weights(mf.mol, c, projector), o, cx.d_sets, e) for c, o, e in chans]
     if len(chans) == 1:
         found = [round(p.occupation) for p in picks[0]]
         ok = found == [a + b for a, b in zip(target_alpha, target_beta)]
@@ -295,7 +296,12 @@ def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = Non
             rungs += more
             if targeting is not None and mf.converged:
                 picks, found = new_picks, new_found
-                if verified and landed_energy < mf.e_tot - 1e-6:
+                if verified and mf.e_tot - landed_energy > IMPLAUSIBLE_STEER_RISE:
+                    verified = False
+                    warnings_steer = (f"the steered state lies {mf.e_tot - landed_energy:.2f} Eh above the SCF's own "
+                                      "solution: implausible for a d configuration, not accepted")
+                    notes.append(warnings_steer)
+                elif verified and landed_energy < mf.e_tot - 1e-6:
                     notes.append(f"the SCF first found {landed} {(mf.e_tot - landed_energy) * 627.5094740631:.1f} "
                                  "kcal/mol below the target configuration: the target may not be the ground state")
     timings["configuration"] = time.perf_counter() - t0
