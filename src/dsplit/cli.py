@@ -98,29 +98,6 @@ def ligands_cmd(as_json: bool) -> None:
     Console().print(table)
 
 
-def _load_request(spec_path: str | None, overrides: dict):
-    """A Spec from a file and/or command-line flags (flags win)."""
-    from dsplit.errors import InputError
-    from dsplit.spec import load_spec, parse_toml_text, spec_from_dict
-
-    if spec_path is None:
-        data: dict = {"complex": {}}
-    else:
-        load_spec(spec_path)  # full validation of the file itself first
-        with open(spec_path, encoding="utf-8") as fh:
-            data = parse_toml_text(fh.read(), spec_path)
-    cx = data.setdefault("complex", {})
-    for key, value in overrides.items():
-        if value is not None:
-            cx[key] = value
-    if spec_path is None and not cx:
-        raise InputError("SPEC", "give a spec file or --metal/--geometry/--ligands flags")
-    from pathlib import Path
-
-    default = Path(spec_path).stem if spec_path else "complex"
-    return spec_from_dict(data, default_name=default)
-
-
 def _parse_ligand_flag(text: str | None) -> dict | None:
     from dsplit.errors import InputError
 
@@ -172,8 +149,8 @@ def build_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond
     from dsplit.build_api import build_summary, isomer_table, write_geometry
     from dsplit.geometry.build import build_complex
 
-    s = _load_request(spec, _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length,
-                                       multiplicity))
+    s = load_full_spec(spec, _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length,
+                                        multiplicity), {})
     if list_isomers:
         rows = isomer_table(s.complex)
         if as_json:
