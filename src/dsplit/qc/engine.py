@@ -343,6 +343,25 @@ def machine_info() -> dict[str, object]:
             "python_executable": sys.executable}
 
 
+def block_aufbau_reaches(syms, occupations, energies) -> bool:
+    """True when filling each symmetry block in energy order gives exactly the wanted orbitals.
+
+    Fixing electron counts per block (``irrep_nelec``) still fills each block by
+    aufbau; if a lower orbital of the particle's block is empty in the wanted
+    configuration (e.g. metal 4s in a1g below the eg particle), block occupations
+    would land there, so the maximum-overlap method is the right tool instead.
+    """
+    for sym, occ, e in zip(syms, occupations, energies):
+        sym, occ, e = np.asarray(sym), np.asarray(occ), np.asarray(e)
+        for ir in set(sym.tolist()):
+            idx = np.where(sym == ir)[0]
+            n = int(round(float(occ[idx].sum())))
+            by_energy = idx[np.argsort(e[idx], kind="stable")]
+            if set(by_energy[:n].tolist()) != set(idx[occ[idx] > 0.5].tolist()):
+                return False
+    return True
+
+
 def run_excited(ground: Calculation, occupations: list[np.ndarray], target_alpha: list[int],
                 target_beta: list[int], multiplicity: int | None = None, out_dir: Path | None = None,
                 tag: str = "excited", progress: Progress | None = None) -> Calculation:
@@ -393,6 +412,11 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
             ground_occ = [chans[0][1] / 2.0, chans[0][1] / 2.0]
         old = [irrep_counts(s, o) for s, o in zip(syms, ground_occ)]
         blocks_differ = new != old
+        energies = [e for _, _, e in chans] * (2 if unrestricted and len(chans) == 1 else 1)
+        if blocks_differ and not block_aufbau_reaches(syms, occupations, energies):
+            notes.append("block-fixed occupations would fill a lower orbital of the particle's block; "
+                         "maximum overlap used")
+            blocks_differ = False
         if blocks_differ:
             irreps = sorted(set().union(*new))
             mf.irrep_nelec = ({ir: int(round(new[0].get(ir, 0))) for ir in irreps} if not unrestricted else

@@ -1,0 +1,32 @@
+"""When fixed block occupations reach the wanted excited configuration (qc/engine.py).
+
+Fixing the electron count per symmetry block keeps aufbau order inside each block
+(PySCF ``irrep_nelec``; common practice), so a wanted particle above an empty orbital
+of the same block cannot be reached that way.
+"""
+
+import numpy as np
+
+from dsplit.qc.engine import block_aufbau_reaches
+
+
+def test_lowest_orbital_of_block_reached():
+    syms = [["a1g", "b1g", "a1g", "b1g"]]
+    occ = [np.array([1.0, 0.0, 1.0, 0.0])]  # both a1g filled
+    e = [np.array([-1.0, -0.5, 0.2, 0.4])]
+    assert block_aufbau_reaches(syms, occ, e)
+
+
+def test_particle_above_empty_orbital_of_its_block_not_reached():
+    # electron moved b1g → the upper a1g, while a lower a1g (think metal 4s) stays empty
+    syms = [["b1g", "a1g", "a1g"]]
+    occ = [np.array([0.0, 0.0, 1.0])]
+    e = [np.array([-0.5, 0.1, 0.3])]
+    assert not block_aufbau_reaches(syms, occ, e)
+
+
+def test_each_spin_channel_checked():
+    syms = [["ag", "ag"], ["ag", "ag"]]
+    occ = [np.array([1.0, 0.0]), np.array([0.0, 1.0])]
+    e = [np.array([-1.0, 0.0]), np.array([-1.0, 0.0])]
+    assert not block_aufbau_reaches(syms, occ, e)
