@@ -44,8 +44,8 @@ def test_three_estimators_run_and_are_consistent(vf4):
     assert abs(st["delta_eV"] - hartree_to_ev(st["energy_excited_hartree"] - st["energy_ground_hartree"])) < 1e-9
     # excitation: the d–d roots are symmetry-labelled and their hole/particle are e → t2
     ex = split["excitation"]
-    dd = [r for r in ex["roots"] if r["d_d"]]
-    assert dd and all(r["symmetry"] for r in dd)
+    dd = [r for r in ex["roots"] if r["ligand_field_band"]]
+    assert dd and all(r["symmetry"] and r["d_d"] for r in dd)
     assert any("e→t2" in p for p in dd[0]["pairs"])
     assert abs(ex["delta_eV"] - dd[0]["energy_eV"]) < 0.05
     # orbital: open shell, so restricted-open value with α/β beside and a warning

@@ -11,7 +11,8 @@
   Acta 43, 261 (1977)).
 - ``excitation``: the lowest TDA roots (CIS for HF; Hirata & Head-Gordon, Chem.
   Phys. Lett. 314, 291 (1999)) in the symmetry block of the d–d transition,
-  kept when hole and particle are both in the d manifold.
+  kept when hole and particle lie in the lower and the upper d set of the band
+  (t2g → eg in Oh; excitations inside one split set are listed, not used).
 
 Components of the ΔSCF hole and particle are chosen by d character so that the
 excited determinant is a pure component of the first spin-allowed T2 state:
@@ -158,18 +159,29 @@ def state_estimator(calc: Calculation, tr: Transition, folder, progress=None) ->
     return out
 
 
-def _root_analysis(td, calc: Calculation, table, k: int) -> tuple[float, list[tuple[int, int, int, float]]]:
-    """(weight of manifold→manifold pairs, dominant pairs [(spin, i, a, w)]) of root k."""
+def _root_analysis(td, calc: Calculation, table, k: int,
+                   tr: Transition | None) -> tuple[float, float, list[tuple[int, int, int, float]]]:
+    """(weight of manifold→manifold pairs, weight of lower-set→upper-set pairs, dominant pairs) of root k.
+
+    The band weight counts only pairs from the transition's lower d set to its upper one
+    (t2g → eg in Oh): excitations inside a set split by a lower-symmetry density (t2g → t2g
+    of an open t2g shell) are d–d too, but they are not the ligand-field band.
+    """
     x = td.xy[k][0]
     xs = x if isinstance(x, (tuple, list)) else (x,)
     chans = _channels(calc.mf)
-    total, dd, pairs = 0.0, 0.0, []
+    total, dd, band, pairs = 0.0, 0.0, 0.0, []
     for spin, xm in enumerate(xs):
         xm = np.asarray(xm)
-        occ = chans[min(spin, len(chans) - 1)][1]
+        ch = min(spin, len(chans) - 1)
+        occ = chans[ch][1]
         occ_idx = np.where(occ > 0)[0]
         vir_idx = np.where(occ == 0)[0]
         man = set(table.channels[min(spin, len(table.channels) - 1)].manifold.indices)
+        lower = upper = set()
+        if tr is not None and calc.picks and len(calc.picks) > ch:
+            lower = set(calc.picks[ch][tr.lower].mo_indices)
+            upper = set(calc.picks[ch][tr.upper].mo_indices)
         w = xm ** 2
         total += w.sum()
         for i_loc, a_loc in zip(*np.nonzero(w > 1e-3)):
@@ -177,8 +189,12 @@ def _root_analysis(td, calc: Calculation, table, k: int) -> tuple[float, list[tu
             pairs.append((spin, i, a, float(w[i_loc, a_loc])))
             if i in man and a in man:
                 dd += float(w[i_loc, a_loc])
+            if i in lower and a in upper:
+                band += float(w[i_loc, a_loc])
     pairs.sort(key=lambda p: -p[3])
-    return (dd / total if total > 0 else 0.0), pairs[:3]
+    if total <= 0:
+        return 0.0, 0.0, pairs[:3]
+    return dd / total, band / total, pairs[:3]
 
 
 def excitation_estimator(calc: Calculation, table, tr: Transition | None, n_roots: int = 3) -> dict[str, Any]:
@@ -217,7 +233,7 @@ def excitation_estimator(calc: Calculation, table, tr: Transition | None, n_root
     for k, e in enumerate(td.e):
         if not np.atleast_1d(td.converged)[k]:
             continue
-        frac, pairs = _root_analysis(td, calc, table, k)
+        frac, band_frac, pairs = _root_analysis(td, calc, table, k, tr)
         labs = []
         for spin, i, a, w in pairs[:2]:
             ch = table.channels[min(spin, len(table.channels) - 1)]
@@ -228,15 +244,19 @@ def excitation_estimator(calc: Calculation, table, tr: Transition | None, n_root
         roots.append({"energy_eV": hartree_to_ev(float(e)), "energy_cm1": e_cm1, "wavelength_nm": cm1_to_nm(e_cm1),
                       "oscillator_strength": None if f_osc[k] is None else float(f_osc[k]),
                       "symmetry": str(getattr(td, "wfnsym", None) or ""), "d_d": frac >= D_D_THRESHOLD,
-                      "d_d_weight": frac, "pairs": labs})
-    dd = [r for r in roots if r["d_d"]]
+                      "d_d_weight": frac, "band_weight": band_frac, "ligand_field_band": band_frac >= D_D_THRESHOLD,
+                      "pairs": labs})
+    dd = [r for r in roots if r["ligand_field_band"]]
+    if any(r["d_d"] and not r["ligand_field_band"] for r in roots):
+        notes.append("d–d roots inside one d set (a set split by the state's lower symmetry) are listed "
+                     "but are not the ligand-field band")
     first = None
     if dd:
         e0 = dd[0]["energy_eV"]
         band = [r["energy_eV"] for r in dd if r["energy_eV"] - e0 < ROOT_DEGENERACY_EV]
         first = float(np.mean(band)) / hartree_to_ev(1.0)
     else:
-        notes.append("no d–d root among the roots computed: no value")
+        notes.append("no root of the lower → upper d-set band among the roots computed: no value")
     return {**energy_block(first), "method": "CIS" if calc.setup.is_hf else "TDA", "roots": roots, "notes": notes,
             "seconds": time.perf_counter() - t0}
 

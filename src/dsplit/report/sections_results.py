@@ -96,9 +96,13 @@ def roots_table(roots: list[dict[str, Any]]) -> Table:
         dd = {True: "yes", False: "no"}.get(r.get("d_d"), MISSING)
         if is_number(r.get("d_d_weight")):
             dd += f" ({pct(r['d_d_weight'])} %)"
+        band = {True: "yes", False: "no"}.get(r.get("ligand_field_band"), MISSING)
+        if is_number(r.get("band_weight")):
+            band += f" ({pct(r['band_weight'])} %)"
         rows.append([str(i), num(r.get("energy_eV"), 3), num(cm1, 0), wavelength_text(cm1),
-                     num(r.get("oscillator_strength"), 5), text(r.get("symmetry") or None), dd])
-    return Table(["root", "E / eV", "ν̃ / cm⁻¹", "λ / nm", "f", "symmetry", "d–d (d-manifold weight)"], rows,
+                     num(r.get("oscillator_strength"), 5), text(r.get("symmetry") or None), dd, band])
+    return Table(["root", "E / eV", "ν̃ / cm⁻¹", "λ / nm", "f", "symmetry", "d–d (d-manifold weight)",
+                  "lower → upper d set (weight)"], rows,
                  "predicted bands (excitation estimator)")
 
 
