@@ -68,6 +68,12 @@ def test_checkpoint_restart_takes_fewer_cycles(tmp_path):
     assert any("started from checkpoint" in n for n in again.notes)
     assert sum(r.cycles for r in again.rungs) < sum(r.cycles for r in first.rungs)
     assert abs(again.energy_hartree - first.energy_hartree) < 1e-6
+    # another geometry of the same atoms: the stored orbitals are re-orthonormalised, not thrown away
+    stretched = make("Ti", "tetrahedral", {"chlorido": 4}, oxidation_state=4,
+                     bond_length=cx.metal_ligand_distances()["chlorido"] + 0.15)
+    moved = _run(stretched, tmp=tmp_path / "c", start_from=first.chk_path)
+    assert moved.ok
+    assert any("started from checkpoint" in n for n in moved.notes), moved.notes
 
 
 def test_pyscf_reference_energies():
@@ -98,3 +104,23 @@ def test_ladder_climbs_when_diis_runs_out(tmp_path):
     assert capped.ok
     assert any(r.converged and r.rung != "diis" for r in capped.rungs)
     assert abs(capped.energy_hartree - free.energy_hartree) < 1e-6
+
+
+def test_reorthonormalised_checkpoint_density_counts_electrons(tmp_path):
+    # Löwdin orthonormalisation restores the electron count (Löwdin, J. Chem. Phys. 18, 365 (1950))
+    from dsplit.qc.engine import reorthonormalised_density
+    from dsplit.qc.setup import build_mole, make_mean_field
+
+    cx = make("Ti", "tetrahedral", {"chlorido": 4}, oxidation_state=4)
+    first = _run(cx, tmp=tmp_path / "a")
+    stretched = make("Ti", "tetrahedral", {"chlorido": 4}, oxidation_state=4,
+                     bond_length=cx.metal_ligand_distances()["chlorido"] + 0.3)
+    setup = resolve_method(stretched, MethodSpec(theory="HF", basis="sto-3g", solvent="none"))
+    mol, _ = build_mole(stretched, setup)
+    mf = make_mean_field(mol, stretched, setup, restricted=True)
+    dm = reorthonormalised_density(mf, first.chk_path)
+    assert dm is not None and dm.shape == (mol.nao_nr(),) * 2
+    assert abs(np.trace(dm @ mol.intor("int1e_ovlp")) - mol.nelectron) < 1e-8
+    other = make("Ti", "tetrahedral", {"fluorido": 4}, oxidation_state=4)  # other atoms: does not fit
+    mol2, _ = build_mole(other, setup)
+    assert reorthonormalised_density(make_mean_field(mol2, other, setup, restricted=True), first.chk_path) is None

@@ -42,6 +42,9 @@ D_D_THRESHOLD = 0.5  # weight of manifold→manifold pairs in a root for it to c
 #: Davidson tolerance of the TDA roots (PySCF's default is 1e-5): measured on [TiF6]3− B3LYP/3-21G PCM,
 #: the same three roots to 1e-4 eV in 0.53× the time
 TDA_CONV_TOL = 1e-4
+#: energy tolerance of the restricted-open SCF behind the orbital estimator: its orbital gradient
+#: (PySCF: √tol ≈ 3e-4 Eh) bounds the orbital-energy error to about 0.01 eV, below what that estimator means
+RESTRICTED_OPEN_CONV_TOL = 1e-7
 
 
 def energy_block(delta_hartree: float | None) -> dict[str, float | None]:
@@ -302,7 +305,7 @@ def _restricted_open_gap(calc: Calculation, lower: str, upper: str, folder, prog
     from dsplit.qc.setup import make_mean_field
 
     mf = make_mean_field(calc.mol, calc.complex, calc.setup, restricted=True, template=calc.mf)
-    mf.conv_tol = 1e-8
+    mf.conv_tol = RESTRICTED_OPEN_CONV_TOL
     mf.chkfile = str(folder / "restricted-open.chk")
     mf, _ = run_ladder(mf, calc.mf.make_rdm1(), progress, rungs=("diis", "level-shift"))
     if not mf.converged:

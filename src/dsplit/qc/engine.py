@@ -28,7 +28,7 @@ from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupat
 
 MAX_STABILITY_FOLLOWS = 2
 SPIN_CONTAMINATION_TOL = 0.1  # |⟨S²⟩ − S(S+1)| above 10 % (or 0.1 for S ≤ 1/2): flagged (common practice)
-EXCITED_CONV_TOL = 1e-8  # Eh; ΔSCF energies are reported to 1e-5 eV at most
+EXCITED_CONV_TOL = 1e-7  # Eh; the energy error is of this order, below the 1e-5 eV (4e-7 Eh) that ΔSCF values are read to
 IMPLAUSIBLE_STEER_RISE = 0.5  # Eh (~13.6 eV): a steered ground configuration this far up is not a d state
 
 
@@ -112,14 +112,59 @@ def _initial_density(mf, start_from: Path | None, notes: list[str]):
     if start_from is not None and Path(start_from).is_file():
         try:
             dm = mf.from_chk(str(start_from))
-            n = np.trace(np.sum(np.atleast_3d(dm).reshape(-1, *dm.shape[-2:]), axis=0) @ mf.get_ovlp())
-            if abs(n - mf.mol.nelectron) < 1e-3:
+            if abs(_electron_count(dm, mf.get_ovlp()) - mf.mol.nelectron) < 1e-3:
                 notes.append(f"started from checkpoint {start_from}")
+                return dm
+            dm = reorthonormalised_density(mf, start_from)
+            if dm is not None:
+                notes.append(f"started from checkpoint {start_from} (orbitals projected onto this geometry "
+                             "and re-orthonormalised)")
                 return dm
             notes.append(f"checkpoint {start_from} did not fit (electron count); started from atoms")
         except Exception as exc:  # a checkpoint of another molecule does not fit
             notes.append(f"checkpoint {start_from} did not fit ({type(exc).__name__}); started from atoms")
     return mf.get_init_guess(key="atom")
+
+
+def _electron_count(dm, overlap) -> float:
+    dm = np.asarray(dm)
+    return float(np.trace(np.sum(dm.reshape(-1, *dm.shape[-2:]), axis=0) @ overlap))
+
+
+def reorthonormalised_density(mf, chk_path: Path):
+    """Density from a checkpoint of the same atoms at another geometry, or None.
+
+    The stored orbitals are expanded in the new AOs with the same coefficients (same
+    atoms, basis and order), then each spin's occupied set is Löwdin-orthonormalised in
+    the new overlap S: C → C (CᵀSC)^(−1/2) (Löwdin, J. Chem. Phys. 18, 365 (1950)), so
+    the electron count is exact again.  Returns None when atoms or basis size differ.
+    """
+    from pyscf.scf import chkfile as scf_chkfile
+
+    chk_mol, rec = scf_chkfile.load_scf(str(chk_path))
+    mol = mf.mol
+    if chk_mol.natm != mol.natm or chk_mol.nao_nr() != mol.nao_nr() or \
+            [chk_mol.atom_symbol(i) for i in range(chk_mol.natm)] != [mol.atom_symbol(i) for i in range(mol.natm)]:
+        return None
+    s = mol.intor_symmetric("int1e_ovlp")
+    mo, occ = np.asarray(rec["mo_coeff"]), np.asarray(rec["mo_occ"])
+    if mo.ndim == 2:  # restricted: two spins share the orbitals
+        mo, occ = np.array([mo, mo]), np.array([np.minimum(occ, 1.0), np.maximum(occ - 1.0, 0.0)])
+    dms = []
+    for c, n in zip(mo, occ):
+        c_occ = c[:, n > 0]
+        m = c_occ.T @ s @ c_occ
+        w, v = np.linalg.eigh(m)
+        c_occ = c_occ @ (v / np.sqrt(w)) @ v.T
+        dms.append((c_occ * n[n > 0]) @ c_occ.T)
+    dm = np.array(dms)
+    if abs(_electron_count(dm, s) - mol.nelectron) > 1e-3:
+        return None
+    from pyscf import scf
+
+    if not isinstance(mf, scf.uhf.UHF):  # RHF/RKS want the total density; ROHF takes both spins
+        return dm if isinstance(mf, scf.rohf.ROHF) else dm[0] + dm[1]
+    return dm
 
 
 def _target_occupations(mf, picks, target_alpha, target_beta):
