@@ -10,12 +10,11 @@ Method: B3LYP/3-21G, restricted open shell for the high-spin state (ROKS: with
 unrestricted orbitals the engine's d-configuration check did not verify the
 high-spin state at this basis — measured), solvent by the project default (PCM
 water for |charge| ≥ 2) unless --gas.
-Measured here (PySCF 2.14, 2 shared cores, B3LYP/3-21G, fixed distances, states run
-one by one with the same code): [Fe(H2O)6]2+ gas phase — 1 (t2g^6, RKS) and 5 (t2g^4 eg^2,
-ROKS) both verified, ΔE(HS − LS) = −254.9 kJ/mol → high spin, agrees (≈ 12 min);
-unrestricted 5 was NOT verified (engine check found t2g^1 eg^2).  [Fe(CN)6]4− PCM water —
-the 1 SCF converged (−1812.1168 Eh) but the engine's d-configuration check rejected it
-and its maximum-overlap steering ended 644 Eh higher: withheld (see the issue-6 report).
+Measured here (PySCF 2.14, 2 shared cores, B3LYP/3-21G, PCM water, fixed distances, after the
+valence-window fix of the d-orbital pick): [Fe(H2O)6]2+ ΔE(HS − LS) = −254 kJ/mol → high spin,
+[Fe(CN)6]4− +393 kJ/mol → low spin; all four states verified, both verdicts "agrees" (331 s and
+727 s).  Before that fix the check rejected the unrestricted quintet and the cyanido singlet
+(inner-d virtuals of the split-valence basis were picked as d orbitals).
 Run: python benchmarks/spin_iron_pair.py [--optimize] [--threads 2] [--basis 3-21g] [--gas]
 Prints per complex: ΔE(HS − LS) in kJ/mol, the ground state, the ligand-field
 expectation and verdict, and with --optimize the optimised Fe–L distance per state.

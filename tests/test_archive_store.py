@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import dataclasses
 import json
+import os
+import stat
 import time
 
 import pytest
@@ -49,6 +51,11 @@ def test_first_run_is_archived(first_run):
     from ase.formula import Formula
 
     assert Formula(rows[0]["formula"]).count() == {"Ti": 1, "F": 6}
+    # a finished run folder gets the user's usual folder permissions (the group sharing the archive
+    # can read it), not the owner-only mode of a temporary folder (common practice)
+    umask = os.umask(0)
+    os.umask(umask)
+    assert stat.S_IMODE(run.out_dir.stat().st_mode) == 0o777 & ~umask
 
 
 def test_second_compute_is_a_cache_hit(first_run, monkeypatch):

@@ -54,6 +54,19 @@ def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
     os.replace(tmp, path)
 
 
+def temporary_run_folder(out_dir: Path) -> Path:
+    """A hidden folder beside ``out_dir`` to write a run into, with the usual folder permissions.
+
+    (``mkdtemp`` makes it owner-only; a finished run folder should be readable by the group
+    that shares the archive, as any folder made under the user's umask.)
+    """
+    tmp_dir = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp_dir, 0o777 & ~umask)
+    return tmp_dir
+
+
 def _replace_dir(tmp_dir: Path, out_dir: Path) -> None:
     """Move a finished run folder into place (an old folder of the same name is replaced)."""
     out_dir.parent.mkdir(parents=True, exist_ok=True)
@@ -77,7 +90,7 @@ def compute(spec: Spec, out_dir: Path, *, threads: int | None = None, memory_mb:
     cx, setup = preflight(spec, threads, memory_mb)
     out_dir = Path(out_dir)
     out_dir.parent.mkdir(parents=True, exist_ok=True)
-    tmp_dir = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    tmp_dir = temporary_run_folder(out_dir)
     try:
         calc = run_calculation(cx, setup, tmp_dir, progress=progress, start_from=start_from)
         table = build_orbital_table(calc) if calc.ok else None

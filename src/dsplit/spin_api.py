@@ -23,7 +23,6 @@ from __future__ import annotations
 
 import re
 import shutil
-import tempfile
 from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any, Callable
@@ -240,7 +239,9 @@ def _main_run(runs: list[StateRun], ground: int | None) -> StateRun:
 def _temp_folder(out_dir: Path) -> Path:
     """The run is built here, next to ``out_dir``, and renamed into place when finished."""
     out_dir.parent.mkdir(parents=True, exist_ok=True)
-    return Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.tmp-"))
+    from dsplit.compute_api import temporary_run_folder
+
+    return temporary_run_folder(out_dir)
 
 
 def _finish(spec: Spec, cx, calc, extra: dict[str, Any], tmp_dir: Path, out_dir: Path, write_reports: bool):
