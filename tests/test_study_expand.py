@@ -100,12 +100,12 @@ def test_dry_run_shows_plan_and_writes_nothing(tmp_path):
     demo = ROOT / "inputs" / "study-ti-colour-screen.toml"
     r = CliRunner().invoke(study_cmd, [str(demo), "--archive", str(arch), "--dry-run"])
     assert r.exit_code == 0, r.output
-    assert "12 run(s)" in r.output and "dropped" in r.output and "tetrahedral takes 4" in r.output
+    assert "8 run(s)" in r.output and "dropped" in r.output and "tetrahedral takes 4" in r.output
     assert not arch.exists()
     r = CliRunner().invoke(study_cmd, [str(demo), "--archive", str(arch), "--dry-run", "--json"])
     doc = json.loads(r.stdout)
-    # Ti(III) d1 → doublet only; V(III) d2 → singlet, triplet (from memory): 2×(1 + 2) runs per method
-    assert len(doc["tasks"]) == 12 and len(doc["dropped"]) == 8
+    # 2 metals × 2 ligand sets × 2 methods; tetrahedral takes 4 ligands, not 6 (common practice)
+    assert len(doc["tasks"]) == 8 and len(doc["dropped"]) == 8
 
 
 def test_unknown_study_file_and_resume_without_record(tmp_path):
@@ -118,3 +118,15 @@ def test_unknown_study_file_and_resume_without_record(tmp_path):
     (tmp_path / "plainfile").write_text("")
     r = CliRunner().invoke(study_cmd, [str(study(tmp_path, "")), "--archive", str(tmp_path / "plainfile")])
     assert r.exit_code == 2 and "is a file" in r.output
+
+
+def test_per_ligand_distances_follow_the_ligand_set(tmp_path):
+    # a distance given per ligand stays with that ligand; a new ligand gets the builder's default
+    p = tmp_path / "study.toml"
+    p.write_text('name = "s"\n' + BASE.replace('ligands = { fluorido = 6 }',
+                                               'ligands = { fluorido = 6 }\nbond_length = { fluorido = 1.93 }')
+                 + '\n[vary]\nligands = [{ fluorido = 6 }, { chlorido = 6 }, { fluorido = 4, chlorido = 2 }]\n')
+    specs = {t.axes["ligands"]: t.spec for t in expand(load_study(p)).tasks}
+    assert specs["fluorido:6"]["complex"]["bond_length"] == {"fluorido": 1.93}
+    assert "bond_length" not in specs["chlorido:6"]["complex"]
+    assert specs["chlorido:2+fluorido:4"]["complex"]["bond_length"] == {"fluorido": 1.93}

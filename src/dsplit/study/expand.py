@@ -104,8 +104,12 @@ def _apply(doc: dict[str, Any], axis: str, v: Any) -> None:
         cx.update(v)
     elif axis == "ligands":
         cx["ligands"] = dict(v)
-        if isinstance(cx.get("bond_length"), dict):  # per-ligand distances belong to the old set
-            cx.pop("bond_length")
+        if isinstance(cx.get("bond_length"), dict):  # per-ligand distances: keep those of ligands still there
+            kept = {k: d for k, d in cx["bond_length"].items() if k in cx["ligands"]}
+            if kept:
+                cx["bond_length"] = kept
+            else:
+                cx.pop("bond_length")
     elif axis == "geometries":
         cx["geometry"] = v
     elif axis == "isomers":
