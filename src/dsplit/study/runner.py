@@ -63,11 +63,17 @@ def execute_task(spec_doc: dict[str, Any], run_id: str, archive: str, threads: i
     res = run.result
     state = "cached" if run.cached else ("computed" if run.exit_code == 0 else "not verified")
     out.update(state=state, seconds=time.perf_counter() - t0, folder=str(run.out_dir), run_id=run.run_id)
-    for est, block in (res.get("splitting") or {}).items():
+    split = res.get("splitting") or {}
+    for est in PREFERRED_ESTIMATORS:  # state energies are what spectra measure; orbital gaps last
+        block = split.get(est)
         if isinstance(block, dict) and isinstance(block.get("delta_eV"), (int, float)):
             out.update(delta_eV=block["delta_eV"], delta_estimator=est)
             break
     return out
+
+
+#: the estimator shown in the live summary: the first with a value
+PREFERRED_ESTIMATORS = ("state", "excitation", "orbital")
 
 
 def _init_worker(threads: int) -> None:
