@@ -31,6 +31,15 @@ def cell(value: Any, digits: int = 3) -> str:
     return str(value)
 
 
+def digits_for(key: str) -> int:
+    """Decimals shown for a column: wavenumbers to whole cm⁻¹, kJ/mol to 0.1, others to 3."""
+    if key.endswith("_cm1"):
+        return 0
+    if key.endswith(("_kJmol", "_kcalmol")):
+        return 1
+    return 3
+
+
 def md_escape(text: str) -> str:
     text = html.escape(text, quote=False)
     return _MD_SPECIAL.sub(r"\\\1", text).replace("\n", " ")
@@ -47,7 +56,7 @@ def render(rows: Sequence[dict[str, Any]], columns: Sequence[Column], fmt: str =
         for r in rows:
             w.writerow(["" if r.get(k) is None else r.get(k) for k, _ in columns])
         return buf.getvalue().rstrip("\n")
-    cells = [[cell(r.get(k)) for k, _ in columns] for r in rows]
+    cells = [[cell(r.get(k), digits_for(k)) for k, _ in columns] for r in rows]
     heads = [h for _, h in columns]
     if fmt == "markdown":
         lines = [f"**{md_escape(title)}**", ""] if title else []

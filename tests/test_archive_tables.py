@@ -1,0 +1,12 @@
+"""Table cells of archive list/compare (archive/tables.py)."""
+
+from dsplit.archive.tables import render
+
+
+def test_wavenumbers_whole_and_energies_to_three_decimals():
+    # band positions are quoted to whole cm⁻¹ (common practice: spectra are read to ±10 cm⁻¹ or worse)
+    rows = [{"delta_state_eV": 2.35512, "delta_state_cm1": 18994.485}]
+    cols = [("delta_state_eV", "Δ state/eV"), ("delta_state_cm1", "Δ state/cm⁻¹")]
+    for fmt in ("text", "markdown", "html"):
+        out = render(rows, cols, fmt)
+        assert "2.355" in out and "18994" in out and "18994.485" not in out
