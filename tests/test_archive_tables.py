@@ -10,3 +10,13 @@ def test_wavenumbers_whole_and_energies_to_three_decimals():
     for fmt in ("text", "markdown", "html"):
         out = render(rows, cols, fmt)
         assert "2.355" in out and "18994" in out and "18994.485" not in out
+
+
+def test_figure_labels_tell_runs_apart():
+    from dsplit.archive.query import run_labels
+
+    rows = [{"ligands": "fluorido:6", "metal": "Ti", "theory": "HF"},
+            {"ligands": "fluorido:6", "metal": "Ti", "theory": "B3LYP"},
+            {"ligands": "chlorido:6", "metal": "Ti", "theory": "HF"}]
+    assert run_labels(rows, "ligands") == ["fluorido:6 HF", "fluorido:6 B3LYP", "chlorido:6 HF"]
+    assert run_labels(rows[:1] + rows[2:], "ligands") == ["fluorido:6", "chlorido:6"]

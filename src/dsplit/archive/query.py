@@ -130,6 +130,20 @@ def compare_rows(root: Path, runs: list[str], selection: str | None, sort: str |
     return rows
 
 
+#: keys that tell runs apart when the --by key alone repeats
+_DISTINGUISH = ("metal", "geometry", "ligands", "theory", "basis", "multiplicity")
+
+
+def run_labels(rows: list[dict[str, Any]], by: str) -> list[str]:
+    """One axis label per run: the ``by`` value, plus whatever else differs when that repeats."""
+    labels = [str(r.get(by, r.get("name"))) for r in rows]
+    if len(set(labels)) == len(labels):
+        return labels
+    varying = [k for k in _DISTINGUISH if k != by and len({str(r.get(k)) for r in rows}) > 1]
+    return [" ".join([lab] + [("2S+1=" if k == "multiplicity" else "") + str(r.get(k)) for k in varying])
+            for lab, r in zip(labels, rows)]
+
+
 def compare_figure(rows: list[dict[str, Any]], by: str, path: Path) -> Path:
     """Δ per estimator (eV, with a cm⁻¹ axis) across the runs, labelled by key ``by``."""
     import matplotlib
@@ -139,7 +153,7 @@ def compare_figure(rows: list[dict[str, Any]], by: str, path: Path) -> Path:
 
     from dsplit.models.units import cm1_to_ev, ev_to_cm1
 
-    labels = [str(r.get(by, r.get("name"))) for r in rows]
+    labels = run_labels(rows, by)
     fig, ax = plt.subplots(figsize=(max(4.0, 0.9 * len(rows) + 2), 3.6))
     x = list(range(len(rows)))
     plotted = False
