@@ -139,6 +139,7 @@ def reorthonormalised_density(mf, chk_path: Path):
     the new overlap S: C → C (CᵀSC)^(−1/2) (Löwdin, J. Chem. Phys. 18, 365 (1950)), so
     the electron count is exact again.  Returns None when atoms or basis size differ.
     """
+    from pyscf.lo.orth import vec_lowdin
     from pyscf.scf import chkfile as scf_chkfile
 
     chk_mol, rec = scf_chkfile.load_scf(str(chk_path))
@@ -152,10 +153,7 @@ def reorthonormalised_density(mf, chk_path: Path):
         mo, occ = np.array([mo, mo]), np.array([np.minimum(occ, 1.0), np.maximum(occ - 1.0, 0.0)])
     dms = []
     for c, n in zip(mo, occ):
-        c_occ = c[:, n > 0]
-        m = c_occ.T @ s @ c_occ
-        w, v = np.linalg.eigh(m)
-        c_occ = c_occ @ (v / np.sqrt(w)) @ v.T
+        c_occ = vec_lowdin(c[:, n > 0], s)
         dms.append((c_occ * n[n > 0]) @ c_occ.T)
     dm = np.array(dms)
     if abs(_electron_count(dm, s) - mol.nelectron) > 1e-3:
