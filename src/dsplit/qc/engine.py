@@ -29,6 +29,13 @@ from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupat
 MAX_STABILITY_FOLLOWS = 2
 SPIN_CONTAMINATION_TOL = 0.1  # |⟨S²⟩ − S(S+1)| above 10 % (or 0.1 for S ≤ 1/2): flagged (common practice)
 EXCITED_CONV_TOL = 1e-7  # Eh; the energy error is of this order, below the 1e-5 eV (4e-7 Eh) that ΔSCF values are read to
+#: rungs of an excited-configuration SCF (maximum-overlap occupations hold in all three), with the
+#: cycles plain DIIS and the level shift get before the next rung takes over.  Measured: on
+#: cis-[CrCl2(NH3)4]+ (B3LYP/def2-SVP) a maximum-overlap DIIS that had not settled by 40 cycles went on
+#: oscillating to the 100-cycle limit; on [Cr(NH3)6]3+ (B3LYP/3-21G) DIIS and level shift both flipped
+#: between two occupations for 100 cycles each, and the Newton solver then converged in 3 macro steps
+EXCITED_RUNGS: tuple[str, ...] = ("diis", "level-shift", "newton")
+EXCITED_CYCLE_CAPS = {"diis": 30, "level-shift": 30}
 IMPLAUSIBLE_STEER_RISE = 0.5  # Eh (~13.6 eV): a steered ground configuration this far up is not a d state
 
 
@@ -469,7 +476,7 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
         mf = scf.addons.mom_occ(mf, mo_arr, occ_arr)
         method = "maximum-overlap"
     dm = mf.make_rdm1(mo_arr, occ_arr)
-    mf, rungs = run_ladder(mf, dm, progress, rungs=("diis", "level-shift"))
+    mf, rungs = run_ladder(mf, dm, progress, rungs=EXCITED_RUNGS, cycle_caps=EXCITED_CYCLE_CAPS)
     projector = orthogonal_projector(mol)
     verified, picks, found = (False, [], "not checked")
     if mf.converged:
@@ -482,7 +489,8 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
         mf.conv_tol = EXCITED_CONV_TOL
         mf = scf.addons.mom_occ(mf, mo_arr, occ_arr)
         method = "maximum-overlap"
-        mf, more = run_ladder(mf, mf.make_rdm1(mo_arr, occ_arr), progress, rungs=("diis", "level-shift"))
+        mf, more = run_ladder(mf, mf.make_rdm1(mo_arr, occ_arr), progress, rungs=EXCITED_RUNGS,
+                              cycle_caps=EXCITED_CYCLE_CAPS)
         rungs += more
         verified, picks, found = (False, [], "not checked")
         if mf.converged:

@@ -193,6 +193,7 @@ def make_mean_field(mol, cx: Complex, setup: MethodSetup, restricted: bool, temp
 
         mf = qmmm.mm_charge(mf, coords, charges)
     if not setup.solvent.is_gas_phase:
-        mf = mf.PCM()
-        mf.with_solvent.eps = setup.solvent.epsilon
+        from dsplit.qc.pcm_factorised import attach_factorised_pcm
+
+        mf = attach_factorised_pcm(mf, setup.solvent.epsilon)
     return mf
