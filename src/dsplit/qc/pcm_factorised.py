@@ -28,11 +28,14 @@ CACHE_SHARE = 0.3
 
 
 class FactorisedPCM(pcm.PCM):
-    """``pcm.PCM`` whose K is factorised once; same equations, same intermediates."""
+    """``pcm.PCM`` with the surface integrals cached and K factorised once; same equations and intermediates."""
 
-    def _factors(self):
+    def _ensure_built(self) -> None:
         if not self._intermediates:
             self.build()
+
+    def _factors(self):
+        self._ensure_built()
         lu = self._intermediates.get("dsplit_lu")
         if lu is None:
             lu = lu_factor(self._intermediates["K"])
@@ -41,6 +44,7 @@ class FactorisedPCM(pcm.PCM):
 
     def _surface_integrals(self) -> np.ndarray | None:
         """Packed (ij|L), shape (nao(nao+1)/2, n_surface), or None when it would not fit."""
+        self._ensure_built()
         cached = self._intermediates.get("dsplit_v")
         if cached is not None:
             return cached
@@ -81,12 +85,12 @@ class FactorisedPCM(pcm.PCM):
         return q, (q + qt) / 2.0
 
     def _get_vind(self, dms):
-        lu = self._factors()  # noqa: F841 (builds the surface when needed)
         nao = dms.shape[-1]
         dms = dms.reshape(-1, nao, nao)
         if dms.shape[0] == 2:
             dms = (dms[0] + dms[1]).reshape(-1, nao, nao)
-        v_grids = self.v_grids_n - self._get_v(dms)
+        v_electronic = self._get_v(dms)  # builds the surface (and v_grids_n) when needed
+        v_grids = self.v_grids_n - v_electronic
         q, q_sym = self._charges(v_grids)
         vmat = self._get_vmat(q_sym)
         epcm = 0.5 * np.dot(q_sym[0], v_grids[0])
@@ -97,7 +101,6 @@ class FactorisedPCM(pcm.PCM):
         return epcm, vmat[0]
 
     def _B_dot_x(self, dms):
-        self._factors()
         out_shape = dms.shape
         nao = dms.shape[-1]
         dms = dms.reshape(-1, nao, nao)
