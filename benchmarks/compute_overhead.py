@@ -3,6 +3,10 @@ against 4-index integrals, and the cost of labelling + composition against the S
 
 Prints measured ratios side by side (targets: overhead ≤ 1.05, DF speed-up ≥ 3,
 labelling + composition ≤ 5 % of the SCF).  Complex: [CrF6]3−, B3LYP/def2-SVP, PCM water.
+Two bare scripts: one with PySCF's own PCM (what a user would write), one with dsplit's
+factorised PCM (the same numerics as the engine, so the ratio is the engine's own overhead);
+density fitting is timed against 4-index integrals with the factorised PCM in both, so the
+solvent's surface integrals do not swamp the two-electron part.
 Run: python benchmarks/compute_overhead.py [basis]
 """
 
@@ -13,9 +17,11 @@ import sys
 from _common import build, timed
 
 
-def bare_pyscf(cx, basis: str, density_fitting: bool = True):
+def bare_pyscf(cx, basis: str, density_fitting: bool = True, factorised_pcm: bool = False):
     """The same SCF written by hand: UKS B3LYP, DF, PCM water, superposition-of-atoms guess."""
     from pyscf import dft, gto
+
+    from dsplit.qc.pcm_factorised import attach_factorised_pcm
 
     atoms = [(s, tuple(p)) for s, p in zip(cx.atoms.get_chemical_symbols(), cx.atoms.positions)]
     mol = gto.M(atom=atoms, basis=basis, charge=cx.charge, spin=cx.multiplicity - 1, symmetry=True, verbose=0)
@@ -25,8 +31,11 @@ def bare_pyscf(cx, basis: str, density_fitting: bool = True):
     mf.init_guess = "atom"
     if density_fitting:
         mf = mf.density_fit()
-    mf = mf.PCM()
-    mf.with_solvent.eps = 78.36
+    if factorised_pcm:
+        mf = attach_factorised_pcm(mf, 78.36)
+    else:
+        mf = mf.PCM()
+        mf.with_solvent.eps = 78.36
     mf.kernel()
     return mf
 
@@ -42,6 +51,8 @@ def main() -> None:
     t: dict[str, float] = {}
     with timed(t, "bare"):
         mf = bare_pyscf(cx, basis)
+    with timed(t, "bare_fpcm"):
+        mff = bare_pyscf(cx, basis, factorised_pcm=True)
     setup = resolve_method(cx, MethodSpec(theory="B3LYP", basis=basis, solvent="water"), threads=None)
     with timed(t, "dsplit_no_stability"):
         calc = run_calculation(cx, setup, None, stability=False)
@@ -50,18 +61,20 @@ def main() -> None:
     with timed(t, "analysis"):
         table = build_orbital_table(calc_full)
     with timed(t, "bare_4index"):
-        mf4 = bare_pyscf(cx, basis, density_fitting=False)
+        mf4 = bare_pyscf(cx, basis, density_fitting=False, factorised_pcm=True)
     print(f"complex [CrF6]3-, B3LYP/{basis}, PCM water, nao = {calc.mol.nao_nr()}")
-    print(f"bare PySCF SCF                  {t['bare']:8.1f} s   E = {mf.e_tot:.8f}")
+    print(f"bare PySCF SCF, PySCF's PCM     {t['bare']:8.1f} s   E = {mf.e_tot:.8f}")
+    print(f"bare PySCF SCF, factorised PCM  {t['bare_fpcm']:8.1f} s   E = {mff.e_tot:.8f}")
     print(f"dsplit engine (no stability)    {t['dsplit_no_stability']:8.1f} s   E = {calc.energy_hartree:.8f}   "
-          f"ratio {t['dsplit_no_stability'] / t['bare']:.3f}  (target ≤ 1.05)")
+          f"ratio {t['dsplit_no_stability'] / t['bare_fpcm']:.3f} to the same numerics (target ≤ 1.05), "
+          f"{t['dsplit_no_stability'] / t['bare']:.3f} to PySCF's PCM")
     print(f"dsplit engine (with stability)  {t['dsplit']:8.1f} s   ratio {t['dsplit'] / t['bare']:.3f}  "
           f"(stability analysis included)")
     print(f"labels + IAO composition        {t['analysis']:8.2f} s   "
           f"{100 * t['analysis'] / calc_full.timings['scf']:.1f} % of the SCF (target ≤ 5 %)")
     print(f"4-index integrals (no DF)       {t['bare_4index']:8.1f} s   DF speed-up "
-          f"{t['bare_4index'] / t['bare']:.2f}× (target ≥ 3×), ΔE(DF − 4-index) = "
-          f"{(mf.e_tot - mf4.e_tot) * 1e6:.1f} µEh")
+          f"{t['bare_4index'] / t['bare_fpcm']:.2f}× (target ≥ 3×), ΔE(DF − 4-index) = "
+          f"{(mff.e_tot - mf4.e_tot) * 1e6:.1f} µEh")
 
 
 if __name__ == "__main__":

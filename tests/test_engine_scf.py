@@ -124,3 +124,36 @@ def test_reorthonormalised_checkpoint_density_counts_electrons(tmp_path):
     other = make("Ti", "tetrahedral", {"fluorido": 4}, oxidation_state=4)  # other atoms: does not fit
     mol2, _ = build_mole(other, setup)
     assert reorthonormalised_density(make_mean_field(mol2, other, setup, restricted=True), first.chk_path) is None
+
+
+def test_failed_rung_hands_on_its_smallest_gradient_orbitals(monkeypatch):
+    # A DIIS rung stopped after two cycles whose |g| rose (1.8 → 2.1 measured): the next rung must
+    # start from the cycle with the smallest orbital gradient, not from the last one.
+    from dsplit.qc import ladder
+    from dsplit.qc.setup import build_mole, make_mean_field
+
+    cx = make("Fe", "tetrahedral", {"chlorido": 4}, oxidation_state=3)
+    setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none"), threads=2)
+    mol, _ = build_mole(cx, setup, 6)
+    seen: list[tuple[float, np.ndarray, np.ndarray]] = []
+    record = ladder._BestSoFar.record
+
+    def spy(self, envs):
+        seen.append((float(envs["norm_gorb"]), envs["mo_coeff"], envs["mo_occ"]))
+        record(self, envs)
+
+    monkeypatch.setattr(ladder._BestSoFar, "record", spy)
+    starts: list[float] = []
+    mf = make_mean_field(mol, cx, setup, restricted=False)
+    mf, records = ladder.run_ladder(
+        mf, None, progress=lambda rung, cycle, e, de: starts.append(e) if rung == "level-shift" and cycle == 1 else None,
+        rungs=("diis", "level-shift"), cycle_caps={"diis": 2})
+    assert records[0].rung == "diis" and not records[0].converged and records[1].converged
+    diis_cycles = seen[:2]
+    best = min(diis_cycles, key=lambda s: s[0])
+    assert best is not diis_cycles[-1]  # the case this test is about: the gradient rose in the last cycle
+    # the level-shift rung's first cycle, redone by hand from the best DIIS orbitals, gives the same energy
+    ref = make_mean_field(mol, cx, setup, restricted=False)
+    ref.level_shift, ref.damp, ref.max_cycle = 0.3, 0.3, 1
+    ref.kernel(ref.make_rdm1(best[1], best[2]))
+    assert abs(starts[0] - ref.e_tot) < 1e-8

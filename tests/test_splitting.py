@@ -76,3 +76,34 @@ def test_no_spin_allowed_band_for_high_spin_d5(tmp_path):
 # The spectrochemical order of the state estimator (F⁻ < H2O < NH3 < CN⁻ for Cr(III)) is checked by
 # benchmarks/spectrochemical_order.py: minimal-basis HF, the only method cheap enough for the
 # default run, puts F⁻ above H2O (3.59 vs 2.96 eV, HF/STO-3G PCM) and fails for cyanide.
+
+
+def test_failed_unrestricted_state_is_redone_restricted_open(vf4, tmp_path, monkeypatch):
+    # The unrestricted excited SCF is made to fail; the estimator must redo the ΔSCF restricted-open
+    # and report E_RO(excited) − E_RO(ground).  For d1 there is one unpaired electron in both states,
+    # so unrestricted and restricted-open ΔSCF differ only by spin polarisation: within 0.15 eV
+    # (common practice).
+    from dataclasses import replace
+
+    from dsplit.analysis import splitting
+    from dsplit.models.units import hartree_to_ev
+
+    cx, calc, _, out = vf4
+    u_delta = out["splitting"]["state"]["delta_eV"]
+    real = splitting.run_excited
+
+    def failing_unrestricted(ground, *args, **kw):
+        run = real(ground, *args, **kw)
+        return replace(run, converged=False) if ground.unrestricted else run
+
+    monkeypatch.setattr(splitting, "run_excited", failing_unrestricted)
+    ro = splitting.restricted_open_ground(calc, tmp_path)
+    assert ro[0] is not None and ro[1].endswith("ROKS")
+    st = splitting.state_estimator(calc, choose_transition(calc), tmp_path, restricted_open=ro)
+    assert st["configuration_verified"] and "restricted open" in st["method"]
+    assert abs(st["energy_ground_hartree"] - ro[0].energy_hartree) < 1e-12
+    assert abs(st["delta_eV"] - hartree_to_ev(st["energy_excited_hartree"] - st["energy_ground_hartree"])) < 1e-9
+    assert abs(st["delta_eV"] - u_delta) < 0.15
+    # without a restricted-open ground the failure stays a failure: no value
+    st2 = splitting.state_estimator(calc, choose_transition(calc), tmp_path)
+    assert st2["delta_eV"] is None and not st2["converged"]

@@ -19,7 +19,9 @@ excited determinant is a pure component of the first spin-allowed T2 state:
 in Oh the xy-like t2g → the z²-like eg (B2g × A1g = B2g ⊂ T2g in D4h; xy → x²−y²
 would give A2g ⊂ T1g); in Td the z²-like e → the xy-like t2 (A1 × B2 = B2 ⊂ T2 in
 D2d) — correlation tables, e.g. Atkins, Child & Phillips, Tables for Group
-Theory (from memory).
+Theory (from memory).  When the MOs mix the frame's d orbitals (lower symmetry),
+the highest MO of the lower set → the lowest of the upper set instead.  An
+unrestricted ΔSCF that fails is redone restricted-open (see ``state_estimator``).
 """
 
 from __future__ import annotations
@@ -37,6 +39,10 @@ from dsplit.qc.targeting import orbital_symmetries
 
 #: preferred (hole, particle) d orbitals of the first spin-allowed band, per geometry
 PREFERRED_PAIR = {"octahedral": ("xy", "z2"), "tetrahedral": ("z2", "xy")}
+#: the preferred pair is used only when each of its MOs is this much one frame d orbital (share of its
+#: d weight); else (e.g. cis-[CrCl2(NH3)4]+, whose t2g MOs are xy ± xz, 0.5 each) the highest lower-set
+#: MO → the lowest upper-set MO, as ties between mixed MOs picked hole and particle arbitrarily
+PURE_SHARE = 0.75
 ROOT_DEGENERACY_EV = 0.02  # roots closer than this count as one band
 D_D_THRESHOLD = 0.5  # weight of manifold→manifold pairs in a root for it to count as d–d
 #: Davidson tolerance of the TDA roots (PySCF's default is 1e-5): measured on [TiF6]3− B3LYP/3-21G PCM,
@@ -95,10 +101,15 @@ def choose_transition(calc: Calculation) -> Transition | None:
             pref = PREFERRED_PAIR.get(cx.geometry)
             from dsplit.models.aom import D_ORBITALS
 
+            hole = particle = None
             if pref and pref[0] in sets[lower].orbitals and pref[1] in sets[upper].orbitals:
+                share = w / np.maximum(w.sum(axis=0), 1e-12)
                 hole = max(holes, key=lambda m: w[D_ORBITALS.index(pref[0]), m])
                 particle = max(parts, key=lambda m: w[D_ORBITALS.index(pref[1]), m])
-            else:
+                if (share[D_ORBITALS.index(pref[0]), hole] < PURE_SHARE
+                        or share[D_ORBITALS.index(pref[1]), particle] < PURE_SHARE):
+                    hole = particle = None  # the frame's d orbitals are mixed in the MOs: no pure component
+            if hole is None:
                 hole = max(holes, key=lambda m: e[m])
                 particle = min(parts, key=lambda m: e[m])
             return Transition(spin, lower, upper, int(hole), int(particle))
@@ -123,8 +134,17 @@ def _excited_occupations(calc: Calculation, tr: Transition, triplet_flip: bool =
     return occ
 
 
-def state_estimator(calc: Calculation, tr: Transition, folder, progress=None) -> dict[str, Any]:
-    """ΔSCF for the chosen transition (see module docstring)."""
+def state_estimator(calc: Calculation, tr: Transition, folder, progress=None,
+                    restricted_open: tuple[Calculation | None, str] | None = None) -> dict[str, Any]:
+    """ΔSCF for the chosen transition (see module docstring).
+
+    When the unrestricted excited SCF fails and a restricted-open ground state is given,
+    the ΔSCF is redone restricted-open: E_RO(excited) − E_RO(ground).  Why: with UKS the
+    emptied α d orbital can lie below filled ligand levels (measured on cis-[CrCl2(NH3)4]+,
+    B3LYP/def2-SVP: α t2g at −0.46 Eh under Cl 3p at −0.36 Eh), and the maximum-overlap
+    occupations then flip between hole and ligand orbitals; in ROKS the singly occupied d
+    levels lie above the ligand pairs (−0.32 against −0.36 Eh) and the excited SCF converges.
+    """
     t0 = time.perf_counter()
     ta, tb = list(calc.target_alpha), list(calc.target_beta)
     exc = [ta, tb]
@@ -133,14 +153,27 @@ def state_estimator(calc: Calculation, tr: Transition, folder, progress=None) ->
     closed = len(_channels(calc.mf)) == 1 and calc.multiplicity == 1
     run = run_excited(calc, _excited_occupations(calc, tr), exc[0], exc[1], out_dir=folder, tag="state-mixed"
                       if closed else "state", progress=progress)
+    ground, method, notes = calc, run.targeting, run.notes + run.warnings
+    if not run.ok and not closed and calc.unrestricted and restricted_open is not None and restricted_open[0]:
+        ro = restricted_open[0]
+        ro_tr = choose_transition(ro)
+        if ro_tr is not None and (ro_tr.spin, ro_tr.lower, ro_tr.upper) == (tr.spin, tr.lower, tr.upper):
+            ro_run = run_excited(ro, _excited_occupations(ro, ro_tr), exc[0], exc[1], out_dir=folder,
+                                 tag="state-restricted-open", progress=progress)
+            notes.append(f"unrestricted ΔSCF not verified; redone restricted-open ({restricted_open[1]}): "
+                         f"Δ = E(excited) − E(ground), both restricted-open"
+                         + ("" if ro_run.ok else f" — {'; '.join(ro_run.warnings) or 'not verified'}"))
+            notes += ro_run.notes
+            if ro_run.ok:
+                run, ground, method = ro_run, ro, f"{ro_run.targeting} (restricted open)"
     labels = [s.label for s in calc.complex.d_sets]
     out: dict[str, Any] = {"excited_configuration": " ".join(f"{l}^{a + b}" for l, a, b in zip(labels, *exc)),
                            "transition": f"{labels[tr.lower]} → {labels[tr.upper]} ({'αβ'[tr.spin]})",
-                           "method": run.targeting, "energy_ground_hartree": calc.energy_hartree,
+                           "method": method, "energy_ground_hartree": ground.energy_hartree,
                            "converged": run.converged, "configuration_verified": run.configuration_verified,
-                           "notes": run.notes + run.warnings}
+                           "notes": notes}
     ok = run.ok
-    delta = run.energy_hartree - calc.energy_hartree if ok else None
+    delta = run.energy_hartree - ground.energy_hartree if ok else None
     if closed and ok:
         ta3, tb3 = list(calc.target_alpha), list(calc.target_beta)
         tb3[tr.lower] -= 1
@@ -272,8 +305,13 @@ def _set_gap(sets, lower_label: str, upper_label: str) -> float | None:
     return (np.mean([s.energy for s in hi]) - np.mean([s.energy for s in lo]))
 
 
-def orbital_estimator(calc: Calculation, table, tr: Transition | None, folder, progress=None) -> dict[str, Any]:
-    """Orbital-energy gaps of the manifold (ROKS/ROHF for open shells; α, β beside)."""
+def orbital_estimator(calc: Calculation, table, tr: Transition | None, folder, progress=None,
+                      restricted_open: tuple[Calculation | None, str] | None = None) -> dict[str, Any]:
+    """Orbital-energy gaps of the manifold (ROKS/ROHF for open shells; α, β beside).
+
+    ``restricted_open``: the (calculation, note) of :func:`restricted_open_ground` when
+    already run; computed here otherwise.
+    """
     t0 = time.perf_counter()
     labels = [s.label for s in calc.complex.d_sets]
     if tr is not None:
@@ -291,15 +329,16 @@ def orbital_estimator(calc: Calculation, table, tr: Transition | None, folder, p
         return out
     out["warning"] = ("open shell: orbital-energy gaps are not the splitting (α and β gaps differ; occupied and "
                       "empty levels feel different exchange); use the state estimator")
-    ro = _restricted_open_gap(calc, lower, upper, folder, progress)
-    out.update(ro)
+    ro, why = restricted_open if restricted_open is not None else restricted_open_ground(calc, folder, progress)
+    out.update(_restricted_open_gap(ro, why, lower, upper))
     out["seconds"] = time.perf_counter() - t0
     return out
 
 
-def _restricted_open_gap(calc: Calculation, lower: str, upper: str, folder, progress) -> dict[str, Any]:
-    """Gap from ROKS/ROHF orbitals converged from the UKS/UHF density."""
-    from dsplit.analysis.manifold import ligand_field_manifold
+def restricted_open_ground(calc: Calculation, folder, progress=None) -> tuple[Calculation | None, str]:
+    """ROKS/ROHF ground state converged from the UKS/UHF density: (calculation, type name) or (None, why)."""
+    from dataclasses import replace
+
     from dsplit.qc.engine import check_configuration
     from dsplit.qc.ladder import run_ladder
     from dsplit.qc.setup import make_mean_field
@@ -307,21 +346,31 @@ def _restricted_open_gap(calc: Calculation, lower: str, upper: str, folder, prog
     mf = make_mean_field(calc.mol, calc.complex, calc.setup, restricted=True, template=calc.mf)
     mf.conv_tol = RESTRICTED_OPEN_CONV_TOL
     mf.chkfile = str(folder / "restricted-open.chk")
-    mf, _ = run_ladder(mf, calc.mf.make_rdm1(), progress, rungs=("diis", "level-shift"))
+    mf, rungs = run_ladder(mf, calc.mf.make_rdm1(), progress, rungs=("diis", "level-shift"))
     if not mf.converged:
-        return {**energy_block(None), "restricted_open": "did not converge: no value"}
+        return None, "did not converge: no value"
     ok, picks, found = check_configuration(mf, calc.complex, orthogonal_projector(calc.mol), calc.target_alpha,
                                            calc.target_beta)
     if not ok:
-        return {**energy_block(None), "restricted_open": f"landed in {found}: no value"}
-    e = np.asarray(mf.mo_energy)
-    by_label = {p.label: p.mo_indices for p in picks[0]}
+        return None, f"landed in {found}: no value"
+    ro = replace(calc, mf=mf, picks=picks, rungs=rungs, converged=True, configuration_verified=True,
+                 configuration_found=found, stability_lowest=None, stability_followed=0, targeting=None,
+                 notes=[], warnings=[])
+    return ro, type(mf).__name__
+
+
+def _restricted_open_gap(ro: Calculation | None, why: str, lower: str, upper: str) -> dict[str, Any]:
+    """Gap from the ROKS/ROHF orbitals."""
+    if ro is None:
+        return {**energy_block(None), "restricted_open": why}
+    e = np.asarray(ro.mf.mo_energy)
+    by_label = {p.label: p.mo_indices for p in ro.picks[0]}
     if lower not in by_label or upper not in by_label:
         return {**energy_block(None), "restricted_open": "sets not found"}
     gap = float(np.mean(e[by_label[upper]]) - np.mean(e[by_label[lower]]))
     sets = [{"label": p.label, "degeneracy": len(p.mo_indices), "energy_eV": hartree_to_ev(float(np.mean(e[p.mo_indices])))}
-            for p in picks[0]]
-    return {**energy_block(gap), "restricted_open": type(mf).__name__, "restricted_open_sets": sets}
+            for p in ro.picks[0]]
+    return {**energy_block(gap), "restricted_open": why, "restricted_open_sets": sets}
 
 
 def estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=None) -> dict[str, Any]:
@@ -349,13 +398,15 @@ def _estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=Non
     except Exception as exc:
         meaning_doc = {"measures_delta_directly": False, "text": f"no rule for {family} ({exc})",
                        "racah_b_enters": True, "has_spin_allowed_band": tr is not None}
-    splitting: dict[str, Any] = {"orbital": orbital_estimator(calc, table, tr, folder, progress)}
+    # open shell: one restricted-open ground state serves the orbital estimator and, if needed, the state one
+    ro = restricted_open_ground(calc, folder, progress) if len(table.channels) == 2 else None
+    splitting: dict[str, Any] = {"orbital": orbital_estimator(calc, table, tr, folder, progress, restricted_open=ro)}
     if tr is None:
         reason = f"d^{cx.d_count} at 2S+1 = {calc.multiplicity}: no spin-allowed d–d excitation"
         splitting["state"] = {**energy_block(None), "notes": [reason]}
         splitting["excitation"] = {**energy_block(None), "notes": [reason]}
     else:
-        splitting["state"] = state_estimator(calc, tr, folder, progress)
+        splitting["state"] = state_estimator(calc, tr, folder, progress, restricted_open=ro)
         splitting["excitation"] = excitation_estimator(calc, table, tr)
     measures = meaning_doc["text"]
     for name in ("state", "excitation"):

@@ -35,7 +35,13 @@ EXCITED_CONV_TOL = 1e-7  # Eh; the energy error is of this order, below the 1e-5
 #: oscillating to the 100-cycle limit; on [Cr(NH3)6]3+ (B3LYP/3-21G) DIIS and level shift both flipped
 #: between two occupations for 100 cycles each, and the Newton solver then converged in 3 macro steps
 EXCITED_RUNGS: tuple[str, ...] = ("diis", "level-shift", "newton")
-EXCITED_CYCLE_CAPS = {"diis": 30, "level-shift": 30}
+#: the Newton rung is capped too (macro steps, each up to ~20 Fock builds): converging excited runs took
+#: 3; on cis-[CrCl2(NH3)4]+ (UKS, def2-SVP) it was still at |g| 0.08 after 2 macro steps (8 min, one core)
+EXCITED_CYCLE_CAPS = {"diis": 30, "level-shift": 30, "newton": 4}
+#: cycles plain DIIS and the level shift get in a ground-state ladder before the next rung: measured on
+#: [Fe(H2O)6]2+ quintet (UKS PBE/3-21G, PCM) DIIS and the level shift each ran out their 100 cycles
+#: oscillating before the Newton rung was reached; 50 is well above the 10–40 cycles converging runs take
+GROUND_CYCLE_CAPS = {"diis": 50, "level-shift": 50}
 IMPLAUSIBLE_STEER_RISE = 0.5  # Eh (~13.6 eV): a steered ground configuration this far up is not a d state
 
 
@@ -131,6 +137,44 @@ def _initial_density(mf, start_from: Path | None, notes: list[str]):
         except Exception as exc:  # a checkpoint of another molecule does not fit
             notes.append(f"checkpoint {start_from} did not fit ({type(exc).__name__}); started from atoms")
     return mf.get_init_guess(key="atom")
+
+
+def start_block_counts(mf, start_from: Path | None) -> dict | None:
+    """Electrons per symmetry block (PySCF ``irrep_nelec`` form) of a start checkpoint's state.
+
+    None unless the checkpoint has this run's basis size and electrons per spin and the
+    molecule has symmetry.  Holding these counts keeps a restart (next geometry step,
+    next functional) in the state it came from: measured on [Fe(H2O)6]2+ singlet (PBE/
+    3-21G, PCM), a block-steered t2g^6 state restarted at a new geometry without them
+    went from −1712.59 to −1702.5 Eh in the first DIIS cycle (|Δρ| 9) and needed 100 cycles,
+    a Newton solve and another steering per geometry step.
+    """
+    from pyscf import scf
+    from pyscf.scf import chkfile as scf_chkfile
+
+    mol = mf.mol
+    if start_from is None or not Path(start_from).is_file() or not mol.symmetry or mol.groupname == "C1":
+        return None
+    try:
+        chk_mol, rec = scf_chkfile.load_scf(str(start_from))
+    except Exception:
+        return None
+    if chk_mol.nao_nr() != mol.nao_nr():
+        return None
+    mo, occ = np.asarray(rec["mo_coeff"]), np.asarray(rec["mo_occ"])
+    if mo.ndim == 2:  # restricted (closed or open shell): α = occupied, β = doubly occupied
+        mo, occ = np.array([mo, mo]), np.array([(occ > 0).astype(float), (occ > 1).astype(float)])
+    syms = [orbital_symmetries(mf, c) for c in mo]
+    if any(x is None for x in syms):
+        return None
+    counts = [irrep_counts(x, o) for x, o in zip(syms, occ)]
+    n_alpha, n_beta = mol.nelec
+    if round(sum(counts[0].values())) != n_alpha or round(sum(counts[1].values())) != n_beta:
+        return None
+    irreps = sorted(set(counts[0]) | set(counts[1]))
+    if not isinstance(mf, (scf.uhf.UHF, scf.rohf.ROHF)):  # restricted closed shell: electrons per block
+        return {ir: int(round(counts[0].get(ir, 0) + counts[1].get(ir, 0))) for ir in irreps}
+    return {ir: (int(round(counts[0].get(ir, 0))), int(round(counts[1].get(ir, 0)))) for ir in irreps}
 
 
 def _electron_count(dm, overlap) -> float:
@@ -314,7 +358,17 @@ def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = Non
     timings["setup"] = time.perf_counter() - t_wall
 
     t0 = time.perf_counter()
-    mf, rungs = run_ladder(mf, dm0, progress)
+    held = start_block_counts(mf, start_from)
+    if held:
+        mf.irrep_nelec = held
+    mf, rungs = run_ladder(mf, dm0, progress, cycle_caps=GROUND_CYCLE_CAPS)
+    if held and mf.converged:
+        notes.append("electrons per symmetry block held as in the start checkpoint's state")
+    elif held:  # the start state's blocks do not converge here: free them
+        mf.irrep_nelec = {}
+        notes.append("the start checkpoint's electrons per symmetry block did not converge here; freed")
+        mf, more = run_ladder(mf, dm0, progress, cycle_caps=GROUND_CYCLE_CAPS)
+        rungs += more
     timings["scf"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
@@ -326,7 +380,7 @@ def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = Non
                 break
             followed += 1
             notes.append(f"internal instability (lowest Hessian eigenvalue {lowest:.2e}) followed")
-            mf, more = run_ladder(mf, mf.make_rdm1(rotated, mf.mo_occ), progress)
+            mf, more = run_ladder(mf, mf.make_rdm1(rotated, mf.mo_occ), progress, cycle_caps=GROUND_CYCLE_CAPS)
             rungs += more
             if not mf.converged:
                 break
@@ -440,7 +494,9 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
         mol = mol.copy()
         mol.spin = mult - 1
         mol.build(False, False)
-    unrestricted = len(occupations) == 2
+    # a restricted-open ground (ROKS/ROHF: one orbital set, α and β occupations) gives a restricted-open excited SCF
+    restricted_open = not ground.unrestricted and len(_channels(ground.mf)) == 2 and len(occupations) == 2
+    unrestricted = len(occupations) == 2 and not restricted_open
     mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
     mf.conv_tol = EXCITED_CONV_TOL
     if out_dir is not None:
@@ -454,6 +510,9 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
     syms = [orbital_symmetries(ground.mf, c) for c in mo]
     mo_arr = np.array(mo) if unrestricted else mo[0]
     occ_arr = np.array(occupations) if unrestricted else occupations[0]
+    mom_occ = np.array(occupations) if restricted_open else occ_arr  # PySCF's ROHF MOM takes (α, β) occupations
+    if restricted_open:
+        occ_arr = occupations[0] + occupations[1]  # 2/1/0 for the ROHF density
     blocks_differ = False
     if all(s is not None for s in syms) and mol.groupname != "C1":
         new = [irrep_counts(s, o) for s, o in zip(syms, occupations)]
@@ -469,11 +528,11 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
             blocks_differ = False
         if blocks_differ:
             irreps = sorted(set().union(*new))
-            mf.irrep_nelec = ({ir: int(round(new[0].get(ir, 0))) for ir in irreps} if not unrestricted else
+            mf.irrep_nelec = ({ir: int(round(new[0].get(ir, 0))) for ir in irreps} if len(new) == 1 else
                               {ir: (int(round(new[0].get(ir, 0))), int(round(new[1].get(ir, 0)))) for ir in irreps})
             method = "irrep_nelec"
     if method is None:
-        mf = scf.addons.mom_occ(mf, mo_arr, occ_arr)
+        mf = scf.addons.mom_occ(mf, mo_arr, mom_occ)
         method = "maximum-overlap"
     dm = mf.make_rdm1(mo_arr, occ_arr)
     mf, rungs = run_ladder(mf, dm, progress, rungs=EXCITED_RUNGS, cycle_caps=EXCITED_CYCLE_CAPS)
@@ -487,7 +546,7 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
                      + "; retried with maximum overlap")
         mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
         mf.conv_tol = EXCITED_CONV_TOL
-        mf = scf.addons.mom_occ(mf, mo_arr, occ_arr)
+        mf = scf.addons.mom_occ(mf, mo_arr, mom_occ)
         method = "maximum-overlap"
         mf, more = run_ladder(mf, mf.make_rdm1(mo_arr, occ_arr), progress, rungs=EXCITED_RUNGS,
                               cycle_caps=EXCITED_CYCLE_CAPS)
