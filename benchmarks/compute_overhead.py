@@ -7,7 +7,7 @@ Two bare scripts: one with PySCF's own PCM (what a user would write), one with d
 factorised PCM (the same numerics as the engine, so the ratio is the engine's own overhead);
 density fitting is timed against 4-index integrals with the factorised PCM in both, so the
 solvent's surface integrals do not swamp the two-electron part.
-Run: python benchmarks/compute_overhead.py [basis]
+Run: python benchmarks/compute_overhead.py [basis] [--threads N]   (N: threads for both sides; default all cores)
 """
 
 from __future__ import annotations
@@ -46,14 +46,22 @@ def main() -> None:
     from dsplit.qc.setup import resolve_method
     from dsplit.spec import MethodSpec
 
-    basis = sys.argv[1] if len(sys.argv) > 1 else "def2-SVP"
+    from pyscf import lib
+
+    args = sys.argv[1:]
+    threads = None
+    if "--threads" in args:
+        threads = int(args.pop(args.index("--threads") + 1))
+        args.remove("--threads")
+        lib.num_threads(threads)
+    basis = args[0] if args else "def2-SVP"
     cx = build("Cr", 3, "octahedral", {"fluorido": 6}, bond_length=1.93)
     t: dict[str, float] = {}
     with timed(t, "bare"):
         mf = bare_pyscf(cx, basis)
     with timed(t, "bare_fpcm"):
         mff = bare_pyscf(cx, basis, factorised_pcm=True)
-    setup = resolve_method(cx, MethodSpec(theory="B3LYP", basis=basis, solvent="water"), threads=None)
+    setup = resolve_method(cx, MethodSpec(theory="B3LYP", basis=basis, solvent="water"), threads=threads)
     with timed(t, "dsplit_no_stability"):
         calc = run_calculation(cx, setup, None, stability=False)
     with timed(t, "dsplit"):
@@ -62,7 +70,7 @@ def main() -> None:
         table = build_orbital_table(calc_full)
     with timed(t, "bare_4index"):
         mf4 = bare_pyscf(cx, basis, density_fitting=False, factorised_pcm=True)
-    print(f"complex [CrF6]3-, B3LYP/{basis}, PCM water, nao = {calc.mol.nao_nr()}")
+    print(f"complex [CrF6]3-, B3LYP/{basis}, PCM water, nao = {calc.mol.nao_nr()}, threads = {lib.num_threads()}")
     print(f"bare PySCF SCF, PySCF's PCM     {t['bare']:8.1f} s   E = {mf.e_tot:.8f}")
     print(f"bare PySCF SCF, factorised PCM  {t['bare_fpcm']:8.1f} s   E = {mff.e_tot:.8f}")
     print(f"dsplit engine (no stability)    {t['dsplit_no_stability']:8.1f} s   E = {calc.energy_hartree:.8f}   "

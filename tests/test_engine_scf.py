@@ -157,3 +157,21 @@ def test_failed_rung_hands_on_its_smallest_gradient_orbitals(monkeypatch):
     ref.level_shift, ref.damp, ref.max_cycle = 0.3, 0.3, 1
     ref.kernel(ref.make_rdm1(best[1], best[2]))
     assert abs(starts[0] - ref.e_tot) < 1e-8
+
+
+def test_converged_rung_records_the_gradient_of_its_last_cycle():
+    # The recorded |g| of a converged rung is taken from its last SCF cycle instead of a fresh Fock
+    # build; it must agree with the gradient of the final orbitals to well below PySCF's convergence
+    # threshold on |g| (√conv_tol, PySCF's default conv_tol_grad; pyscf.scf.hf.kernel).
+    from dsplit.qc import ladder
+    from dsplit.qc.setup import build_mole, make_mean_field
+
+    cx = make("Ti", "tetrahedral", {"chlorido": 4}, oxidation_state=4)
+    setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none"), threads=2)
+    mol, _ = build_mole(cx, setup)
+    mf, records = ladder.run_ladder(make_mean_field(mol, cx, setup, restricted=True), None, rungs=("diis",))
+    assert records[-1].converged
+    fresh = ladder._grad_norm(mf)
+    threshold = np.sqrt(mf.conv_tol)
+    assert records[-1].gradient_norm < threshold and fresh < threshold
+    assert abs(records[-1].gradient_norm - fresh) < 0.1 * threshold

@@ -107,3 +107,32 @@ def test_failed_unrestricted_state_is_redone_restricted_open(vf4, tmp_path, monk
     # without a restricted-open ground the failure stays a failure: no value
     st2 = splitting.state_estimator(calc, choose_transition(calc), tmp_path)
     assert st2["delta_eV"] is None and not st2["converged"]
+
+
+def test_hole_under_ligand_levels_is_flagged(tmp_path):
+    # cis-[CrCl2(NH3)4]+ (B3LYP/STO-3G, gas phase): the unrestricted α t2g hole lies under filled Cl 3p
+    # levels of its own Cs block (measured: −0.287 Eh under −0.249/−0.246 Eh), the situation whose
+    # unrestricted ΔSCF swaps hole and ligand orbitals at def2-SVP.  The estimator must find those
+    # orbitals (filled, above the hole, outside the d manifold, same block) and say so with its value.
+    from dsplit.analysis import splitting
+    from dsplit.qc.targeting import orbital_symmetries
+
+    cx = make("Cr", "octahedral", {"chlorido": 2, "ammine": 4}, oxidation_state=3, isomer="cis")
+    calc = _calc(cx, tmp_path, theory="B3LYP")
+    assert calc.ok and calc.unrestricted
+    tr = choose_transition(calc)
+    buried = splitting.hole_under_filled_ligands(calc, tr)
+    e, occ = calc.mf.mo_energy[tr.spin], calc.mf.mo_occ[tr.spin]
+    syms = orbital_symmetries(calc.mf, calc.mf.mo_coeff[tr.spin])
+    assert buried and all(e[m] > e[tr.hole] and occ[m] == 1 and syms[m] == syms[tr.hole] for m in buried)
+    assert not set(buried) & {m for p in calc.picks[tr.spin] for m in p.mo_indices}
+    st = splitting.state_estimator(calc, tr, tmp_path)
+    assert any(n.startswith("caution: the unrestricted hole lies under") for n in st["notes"])
+
+
+def test_top_hole_is_not_flagged(vf4):
+    from dsplit.analysis import splitting
+
+    _, calc, _, out = vf4
+    assert splitting.hole_under_filled_ligands(calc, choose_transition(calc)) == []
+    assert not any(n.startswith("caution") for n in out["splitting"]["state"]["notes"])

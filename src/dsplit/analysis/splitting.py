@@ -116,6 +116,24 @@ def choose_transition(calc: Calculation) -> Transition | None:
     return None
 
 
+def hole_under_filled_ligands(calc: Calculation, tr: Transition) -> list[int]:
+    """Filled MOs of the hole's spin and symmetry block, outside the d manifold, above the hole.
+
+    In an unrestricted SCF the emptied d orbital then lies below filled ligand levels it can
+    mix with, and the excited SCF tends to swap the hole with them (measured on
+    cis-[CrCl2(NH3)4]+, B3LYP/def2-SVP: α t2g at −12.5 eV under three same-block Cl 3p levels up
+    to −9.9 eV; none of the other demo complexes has one).
+    """
+    chans = _channels(calc.mf)
+    ch = 0 if len(chans) == 1 else tr.spin
+    c, occ, e = chans[ch]
+    occ_spin = occ / 2.0 if len(chans) == 1 else occ
+    manifold = {m for pick in calc.picks[ch] for m in pick.mo_indices}
+    syms = orbital_symmetries(calc.mf, c)
+    return [m for m in range(len(e)) if occ_spin[m] > 0.5 and m not in manifold and e[m] > e[tr.hole]
+            and (syms is None or syms[m] == syms[tr.hole])]
+
+
 def _excited_occupations(calc: Calculation, tr: Transition, triplet_flip: bool = False):
     """Per-spin occupation vectors (α, β) over the ground MOs with the electron moved."""
     chans = _channels(calc.mf)
@@ -144,6 +162,9 @@ def state_estimator(calc: Calculation, tr: Transition, folder, progress=None,
     B3LYP/def2-SVP: α t2g at −0.46 Eh under Cl 3p at −0.36 Eh), and the maximum-overlap
     occupations then flip between hole and ligand orbitals; in ROKS the singly occupied d
     levels lie above the ligand pairs (−0.32 against −0.36 Eh) and the excited SCF converges.
+    Such a buried hole (:func:`hole_under_filled_ligands`) is noted with the result: even a
+    converged unrestricted ΔSCF then depends on the route (same complex, B3LYP/STO-3G, both
+    verified: unrestricted 2.55 eV, restricted-open 1.77 eV), so neither goes first by rule.
     """
     t0 = time.perf_counter()
     ta, tb = list(calc.target_alpha), list(calc.target_beta)
@@ -154,18 +175,21 @@ def state_estimator(calc: Calculation, tr: Transition, folder, progress=None,
     run = run_excited(calc, _excited_occupations(calc, tr), exc[0], exc[1], out_dir=folder, tag="state-mixed"
                       if closed else "state", progress=progress)
     ground, method, notes = calc, run.targeting, run.notes + run.warnings
+    buried = hole_under_filled_ligands(calc, tr) if calc.unrestricted and not closed else []
+    if buried:
+        e = _channels(calc.mf)[tr.spin][2]  # unrestricted: one channel per spin
+        notes.append(f"caution: the unrestricted hole lies under {len(buried)} filled same-block ligand "
+                     f"orbital(s) (up to {hartree_to_ev(max(e[m] for m in buried) - e[tr.hole]):.2f} eV above it); "
+                     "the excited SCF can mix hole and ligand orbitals, and its value depends on the route")
     if not run.ok and not closed and calc.unrestricted and restricted_open is not None and restricted_open[0]:
         ro = restricted_open[0]
-        ro_tr = choose_transition(ro)
-        if ro_tr is not None and (ro_tr.spin, ro_tr.lower, ro_tr.upper) == (tr.spin, tr.lower, tr.upper):
-            ro_run = run_excited(ro, _excited_occupations(ro, ro_tr), exc[0], exc[1], out_dir=folder,
-                                 tag="state-restricted-open", progress=progress)
-            notes.append(f"unrestricted ΔSCF not verified; redone restricted-open ({restricted_open[1]}): "
-                         f"Δ = E(excited) − E(ground), both restricted-open"
-                         + ("" if ro_run.ok else f" — {'; '.join(ro_run.warnings) or 'not verified'}"))
-            notes += ro_run.notes
-            if ro_run.ok:
-                run, ground, method = ro_run, ro, f"{ro_run.targeting} (restricted open)"
+        ro_run, ro_notes = _restricted_open_state(ro, tr, exc, folder, progress)
+        notes.append(f"unrestricted ΔSCF not verified; redone restricted-open ({restricted_open[1]}): "
+                     f"Δ = E(excited) − E(ground), both restricted-open"
+                     + ("" if ro_run is not None else " — not verified"))
+        notes += ro_notes
+        if ro_run is not None:
+            run, ground, method = ro_run, ro, f"{ro_run.targeting} (restricted open)"
     labels = [s.label for s in calc.complex.d_sets]
     out: dict[str, Any] = {"excited_configuration": " ".join(f"{l}^{a + b}" for l, a, b in zip(labels, *exc)),
                            "transition": f"{labels[tr.lower]} → {labels[tr.upper]} ({'αβ'[tr.spin]})",
@@ -193,6 +217,17 @@ def state_estimator(calc: Calculation, tr: Transition, folder, progress=None,
     out.update(energy_block(delta))
     out["seconds"] = time.perf_counter() - t0
     return out
+
+
+def _restricted_open_state(ro: Calculation, tr: Transition, exc: list[list[int]], folder,
+                           progress=None) -> tuple[Calculation | None, list[str]]:
+    """(verified restricted-open excited SCF or None, notes) for the same transition as ``tr``."""
+    ro_tr = choose_transition(ro)
+    if ro_tr is None or (ro_tr.spin, ro_tr.lower, ro_tr.upper) != (tr.spin, tr.lower, tr.upper):
+        return None, ["restricted-open ground has no matching transition"]
+    run = run_excited(ro, _excited_occupations(ro, ro_tr), exc[0], exc[1], out_dir=folder,
+                      tag="state-restricted-open", progress=progress)
+    return (run if run.ok else None), run.notes + run.warnings
 
 
 def _root_analysis(td, calc: Calculation, table, k: int,
