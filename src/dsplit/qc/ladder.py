@@ -58,10 +58,11 @@ class _BestSoFar:
 
     def record(self, envs) -> None:
         norm = envs.get("norm_gorb")
-        if norm is not None:
-            self.last_norm = float(norm)
-        if norm is not None and envs.get("mo_coeff") is not None and float(norm) < self.norm:
-            self.norm = float(norm)
+        if norm is None:
+            return
+        self.last_norm = float(norm)
+        if envs.get("mo_coeff") is not None and self.last_norm < self.norm:
+            self.norm = self.last_norm
             self.mo_coeff, self.mo_occ = envs["mo_coeff"], envs["mo_occ"]
 
 
@@ -97,7 +98,7 @@ def _run(mf, rung: str, dm0, progress: Progress | None, newton_ok: bool,
         mf.level_shift, mf.damp = 0.0, 0.0
     elif rung == "newton":
         solver = mf.newton()
-        _attach_progress(solver, rung, progress, best)
+        _attach_progress(solver, rung, progress)
         mo, occ = mf.mo_coeff, mf.mo_occ
         solver.kernel(mo, occ) if mo is not None else solver.kernel(dm0)
     elif rung == "fractional":
@@ -112,14 +113,16 @@ def _run(mf, rung: str, dm0, progress: Progress | None, newton_ok: bool,
     if solver is not mf:
         for attr in ("mo_coeff", "mo_occ", "mo_energy", "e_tot", "converged"):
             setattr(mf, attr, getattr(solver, attr))
+    last = best  # tracks the SCF whose last cycle gave the final orbitals (Newton rungs: none attached)
     if mf.converged and rung == "level-shift":  # polish: plain SCF from the converged density (no shift left)
         # (the Newton solver has no shift and canonicalises its orbitals; a DIIS polish after it can jump
         # to another stationary point — measured on an excited [Cr(NH3)6]3+ configuration, 0.03 Eh up)
-        _attach_progress(mf, rung, progress, best)
+        last = _BestSoFar()  # its own tracker: the rung's hand-over orbitals stay the level-shift ones
+        _attach_progress(mf, rung, progress, last)
         mf.kernel(mf.make_rdm1())
     # a converged rung's last cycle already computed the gradient: one Fock build saved (7 % of a 10-cycle
-    # [CrF6]3− B3LYP/def2-SVP SCF); a failed rung's final orbitals get their own
-    norm = best.last_norm if (mf.converged and best is not None and np.isfinite(best.last_norm)) else _grad_norm(mf)
+    # [CrF6]3− B3LYP/def2-SVP SCF); a failed rung's final orbitals, and the Newton solver's, get their own
+    norm = last.last_norm if (mf.converged and last is not None and np.isfinite(last.last_norm)) else _grad_norm(mf)
     rec = RungRecord(rung, bool(mf.converged), cycles, float(mf.e_tot), norm, time.perf_counter() - t0)
     return mf, rec
 
