@@ -19,6 +19,11 @@ TEXTBOOK = [
     ("V", 3, "octahedral", {"aqua": 6}, 3, 2, [1, 3], 3, "t2g^2 eg^0"),             # [V(H2O)6]3+ triplet
     ("Cr", 3, "octahedral", {"aqua": 6}, 3, 3, [2, 4], 4, "t2g^3 eg^0"),            # [Cr(H2O)6]3+ quartet
     ("Cr", 2, "octahedral", {"aqua": 6}, 2, 4, [1, 3, 5], 5, "t2g^3 eg^1"),         # high-spin Cr(II)
+    # strong field cannot pair t2g^3 or t2g^4 further: S = 3/2 and S = 1 (low spin is not the smallest 2S+1)
+    ("Cr", 3, "octahedral", {"cyanido": 6}, -3, 3, [2, 4], 4, "t2g^3 eg^0"),        # [Cr(CN)6]3− quartet
+    ("Mo", 3, "octahedral", {"chlorido": 6}, -3, 3, [2, 4], 4, "t2g^3 eg^0"),       # [MoCl6]3− quartet
+    ("Mn", 3, "octahedral", {"cyanido": 6}, -3, 4, [1, 3, 5], 3, "t2g^4 eg^0"),     # [Mn(CN)6]3− low spin, S = 1
+    ("Os", 4, "octahedral", {"chlorido": 6}, -2, 4, [1, 3, 5], 3, "t2g^4 eg^0"),    # [OsCl6]2− low spin, S = 1
     ("Mn", 2, "octahedral", {"aqua": 6}, 2, 5, [2, 4, 6], 6, "t2g^3 eg^2"),         # high-spin Mn(II), sextet
     ("Fe", 3, "octahedral", {"cyanido": 6}, -3, 5, [2, 4, 6], 2, "t2g^5 eg^0"),     # low-spin ferricyanide
     ("Fe", 2, "octahedral", {"aqua": 6}, 2, 6, [1, 3, 5], 5, "t2g^4 eg^2"),         # high-spin Fe(II)

@@ -266,7 +266,7 @@ def build_complex(req: ComplexRequest) -> Complex:
                          n_sigma_donors=len(ligs), poly=poly)
     if req.multiplicity is None:
         mult, why = default_multiplicity(ec.multiplicities, m.row, poly.geometry, d_count, ox,
-                                         [lig.key for lig in ligs])
+                                         [lig.key for lig in ligs], sets)
         mult_source = f"ligand-field default ({why})"
     else:
         mult = req.multiplicity

@@ -121,7 +121,7 @@ def _expected_multiplicity(cx) -> int:
     from dsplit.chem.spin_default import default_multiplicity
 
     m, _ = default_multiplicity(cx.counts.multiplicities, cx.metal.row, cx.geometry, cx.d_count,
-                                cx.oxidation_state, [pl.ligand.key for pl in cx.ligands])
+                                cx.oxidation_state, [pl.ligand.key for pl in cx.ligands], cx.d_sets)
     return m
 
 

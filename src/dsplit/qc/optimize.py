@@ -88,6 +88,7 @@ class OptimizationResult:
     gradient_model: str
     failure: str | None = None
     notes: list[str] = field(default_factory=list)
+    hessian: np.ndarray | None = None  # symmetric mode: the last quasi-Newton Hessian, Eh/Å², one row per set
 
     @property
     def symmetry_kept(self) -> bool:
@@ -237,8 +238,14 @@ def _bfgs_update(h: np.ndarray, s: np.ndarray, y: np.ndarray) -> np.ndarray:
 def optimize_symmetric(cx: Complex, setup, folder: Path | None, *, multiplicity: int | None = None,
                        target_occupations: list[int] | None = None, start_from: Path | None = None,
                        threshold: float = GRADIENT_THRESHOLD, max_steps: int = MAX_STEPS, progress=None,
-                       tag: str = "opt") -> OptimizationResult:
-    """Optimise one distance per symmetry-distinct ligand set, keeping the point group."""
+                       tag: str = "opt", start_distances: dict[str, float] | None = None,
+                       start_hessian: np.ndarray | None = None) -> OptimizationResult:
+    """Optimise one distance per symmetry-distinct ligand set, keeping the point group.
+
+    ``start_distances`` (by set label) and ``start_hessian`` let a neighbouring optimisation
+    (another spin state or functional of the same complex) seed the start point and the
+    quasi-Newton curvature; without them the builder's distances and K_GUESS are used.
+    """
     from ase.io import Trajectory
 
     check_optimizable(cx, setup, full=False)
@@ -250,11 +257,20 @@ def optimize_symmetric(cx: Complex, setup, folder: Path | None, *, multiplicity:
     traj_path = folder / f"{tag}.traj" if folder is not None else None
     traj = Trajectory(str(traj_path), "w") if traj_path is not None else None
     x = set_distances(cx, sets)
+    if start_distances:
+        x = np.array([float(start_distances.get(s.label, v)) for s, v in zip(sets, x)])
+        notes_seed = ["start distances from a neighbouring optimisation"]
+    else:
+        notes_seed = []
     hess = np.diag([K_GUESS * len(s.members) for s in sets])
+    if start_hessian is not None and np.shape(start_hessian) == hess.shape \
+            and np.all(np.linalg.eigvalsh(start_hessian) > 0):
+        hess = np.array(start_hessian, dtype=float)
+        notes_seed.append("start Hessian from a neighbouring optimisation")
     best: tuple[np.ndarray, float, np.ndarray] | None = None
     steps: list[OptimizationStep] = []
     converged, failure, last_cx, retries = False, None, cx, 0
-    notes = [f"ligand sets: {', '.join(f'{s.label} ×{len(s.members)}' for s in sets)}"]
+    notes = [f"ligand sets: {', '.join(f'{s.label} ×{len(s.members)}' for s in sets)}", *notes_seed]
     try:
         while len(steps) < max_steps:
             t0 = time.perf_counter()
@@ -301,7 +317,7 @@ def optimize_symmetric(cx: Complex, setup, folder: Path | None, *, multiplicity:
                           "(all its ligands moving together)",
         steps=steps, initial=cx, final=last_cx, calculation=final_calc, trajectory=traj_path,
         start_group=cx.exact_point_group, final_group=cx.exact_point_group if not steps else
-        _point_group(last_cx), gradient_model=gradient_model(setup), failure=failure, notes=notes)
+        _point_group(last_cx), gradient_model=gradient_model(setup), failure=failure, notes=notes, hessian=hess)
 
 
 def _point_group(cx: Complex) -> str:
