@@ -136,3 +136,64 @@ def test_top_hole_is_not_flagged(vf4):
     _, calc, _, out = vf4
     assert splitting.hole_under_filled_ligands(calc, choose_transition(calc)) == []
     assert not any(n.startswith("caution") for n in out["splitting"]["state"]["notes"])
+
+
+@pytest.mark.parametrize("alpha,beta,irrep", [
+    # D4h/D2d symmetry of frame-d determinants against the correlation tables Oh → D4h and Td → D2d
+    # (Atkins, Child & Phillips, Tables for Group Theory — from memory)
+    ({"xy", "xz", "yz"}, set(), "B1"),                       # Oh d3 ⁴A2g → B1g
+    ({"xz", "yz", "x2-y2"}, set(), "B2"),                    # a ⁴T2g component (B2g occurs only in T2g)
+    ({"xz", "yz", "z2"}, set(), "A2"),                       # a ⁴T1g component
+    ({"z2", "x2-y2"}, set(), "B1"),                          # Td d2 ³A2 → B1
+    ({"xy", "xz", "yz", "z2", "x2-y2"}, {"xy"}, "B2"),       # Oh d6 high spin, a ⁵T2g component
+    ({"xy", "xz", "yz"}, {"xy", "xz", "yz"}, "A1"),          # t2g⁶ ¹A1g
+])
+def test_determinant_symmetry(alpha, beta, irrep):
+    from dsplit.analysis.splitting import _SUBGROUP_IRREP, determinant_bits
+
+    assert _SUBGROUP_IRREP[determinant_bits(alpha, beta)] == irrep
+
+
+def test_xz_alone_spans_e():
+    from dsplit.analysis.splitting import determinant_bits
+
+    assert determinant_bits({"xy", "xz"}, set()) is None
+
+
+def test_d2_tetrahedral_targets_the_t2_component(tmp_path):
+    """[VF4]− (d2, ³A2): the ΔSCF pair is x²−y² → xy (|z² xy|, B2 ⊂ ³T2), not z² → xy (|x²−y² xy|, A2 ⊂ ³T1).
+
+    Outside fact: the first spin-allowed band of tetrahedral d2 is ³A2 → ³T2, below ³A2 → ³T1(F)
+    (Tanabe–Sugano / Orgel diagram, textbook).  So the chosen component's ΔSCF must lie below the
+    other one's, which is computed here too.
+    """
+    from dataclasses import replace
+
+    from dsplit.analysis.splitting import _frame_orbital
+    from dsplit.qc.dcharacter import d_weights, orthogonal_projector
+
+    cx = make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=3)
+    calc = _calc(cx, tmp_path, theory="B3LYP")  # measured B3LYP/STO-3G: ³T2 0.54 eV, ³T1 1.34 eV (UHF: ³T1 fails)
+    assert calc.ok and cx.multiplicity == 3
+    # the eigensolver may return the degenerate α e pair (one D2 block) in any mix: mix it on purpose
+    import numpy as np
+
+    e_pair = calc.picks[0][0].mo_indices
+    c0 = calc.mf.mo_coeff[0]
+    dm = c0[:, e_pair] @ c0[:, e_pair].T
+    rot = np.array([[np.cos(0.6), -np.sin(0.6)], [np.sin(0.6), np.cos(0.6)]])
+    c0[:, e_pair] = c0[:, e_pair] @ rot
+    tr = choose_transition(calc)  # aligns the pair with z² and x²−y² again, density unchanged
+    assert np.allclose(c0[:, e_pair] @ c0[:, e_pair].T, dm, atol=1e-10)
+    c = calc.mf.mo_coeff[tr.spin]
+    mos = [m for p in calc.picks[tr.spin] for m in p.mo_indices]
+    w = d_weights(calc.mol, c, orthogonal_projector(calc.mol))
+    frames = {m: _frame_orbital(w / w.sum(axis=0), m) for m in mos}
+    assert (frames[tr.hole], frames[tr.particle]) == ("x2-y2", "xy") and tr.component == "B2 ⊂ T2 (D2d)"
+    t1_hole = next(m for m in mos if frames[m] == "z2")
+    (tmp_path / "t2").mkdir()
+    (tmp_path / "t1").mkdir()
+    t2 = state_estimator(calc, tr, tmp_path / "t2")
+    t1 = state_estimator(calc, replace(tr, hole=t1_hole, component=None), tmp_path / "t1")
+    assert t2["configuration_verified"] and t1["configuration_verified"]
+    assert 0 < t2["delta_eV"] < t1["delta_eV"], (t2["delta_eV"], t1["delta_eV"])

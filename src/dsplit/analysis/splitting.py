@@ -14,14 +14,17 @@
   kept when hole and particle lie in the lower and the upper d set of the band
   (t2g → eg in Oh; excitations inside one split set are listed, not used).
 
-Components of the ΔSCF hole and particle are chosen by d character so that the
-excited determinant is a pure component of the first spin-allowed T2 state:
-in Oh the xy-like t2g → the z²-like eg (B2g × A1g = B2g ⊂ T2g in D4h; xy → x²−y²
-would give A2g ⊂ T1g); in Td the z²-like e → the xy-like t2 (A1 × B2 = B2 ⊂ T2 in
-D2d) — correlation tables, e.g. Atkins, Child & Phillips, Tables for Group
-Theory (from memory).  When the MOs mix the frame's d orbitals (lower symmetry),
-the highest MO of the lower set → the lowest of the upper set instead.  An
-unrestricted ΔSCF that fails is redone restricted-open (see ``state_estimator``).
+Components of the ΔSCF hole and particle are chosen so that the excited determinant is a
+pure component of the band's upper state.  The symmetry of a determinant over frame d
+orbitals in D4h ⊂ Oh (D2d ⊂ Td) is the product of its occupied orbitals' irreps per spin
+(z² A1, x²−y² B1, xy B2, the xz+yz pair A2; xz or yz alone spans E and is not used).  Only
+B2 is pure T2 (T2 → B2 + E, T1 → A2 + E); A1 and B1 are E components (Eg → A1g + B1g) and
+A2 is pure T1 — correlation tables, e.g. Atkins, Child & Phillips, Tables for Group Theory
+(from memory).  Example, Oh d3: |xy xz yz| (B1g, ⁴A2g) → |xz yz x²−y²| is B2g ⊂ ⁴T2g,
+while → |xz yz z²| is A2g, a ⁴T1g component.  When the MOs mix the frame's d orbitals
+(lower symmetry) or no single move reaches the upper state, the highest MO of the lower set
+→ the lowest of the upper set instead.  An unrestricted ΔSCF that fails is redone
+restricted-open (see ``state_estimator``).
 """
 
 from __future__ import annotations
@@ -37,9 +40,17 @@ from dsplit.qc.dcharacter import d_weights, orthogonal_projector
 from dsplit.qc.engine import Calculation, _channels, run_excited
 from dsplit.qc.targeting import orbital_symmetries
 
-#: preferred (hole, particle) d orbitals of the first spin-allowed band, per geometry
-PREFERRED_PAIR = {"octahedral": ("xy", "z2"), "tetrahedral": ("z2", "xy")}
-#: the preferred pair is used only when each of its MOs is this much one frame d orbital (share of its
+#: frame d orbitals as (B1-like, B2-like) bits of D4h ⊂ Oh and D2d ⊂ Td: A1 00, B1 10, B2 01, A2 11
+FRAME_BITS = {"z2": (0, 0), "x2-y2": (1, 0), "xy": (0, 1)}
+_SUBGROUP_IRREP = {(0, 0): "A1", (1, 0): "B1", (0, 1): "B2", (1, 1): "A2"}
+#: pure components of the band's upper state in that subgroup (see module docstring)
+PURE_COMPONENTS = {"T2": {(0, 1)}, "T1": {(1, 1)}, "E": {(0, 0), (1, 0)}}
+#: upper state of the first spin-allowed band, (family, spin) → {dⁿ: Oh/Td irrep}; Tanabe–Sugano
+#: diagrams as in models.bands (Lever 1984, from memory); low-spin d4, d5, d7 are not targeted
+UPPER_STATE = {("octahedral", "high"): {1: "E", 2: "T2", 3: "T2", 4: "T2", 6: "E", 7: "T2", 8: "T2", 9: "T2"},
+               ("octahedral", "low"): {6: "T1", 1: "E", 2: "T2", 3: "T2", 8: "T2", 9: "T2"},
+               ("tetrahedral", "high"): {1: "T2", 2: "T2", 3: "T2", 4: "E", 6: "T2", 7: "T2", 8: "T2", 9: "E"}}
+#: a component is chosen only when every manifold MO is this much one frame d orbital (share of its
 #: d weight); else (e.g. cis-[CrCl2(NH3)4]+, whose t2g MOs are xy ± xz, 0.5 each) the highest lower-set
 #: MO → the lowest upper-set MO, as ties between mixed MOs picked hole and particle arbitrarily
 PURE_SHARE = 0.75
@@ -67,19 +78,128 @@ class Transition:
     upper: int
     hole: int  # MO index
     particle: int
+    component: str | None = None  # e.g. "B2g ⊂ T2g (D4h)" when a pure component was chosen
+
+
+def determinant_bits(alpha: set[str], beta: set[str]) -> tuple[int, int] | None:
+    """D4h/D2d symmetry bits of a determinant from its occupied frame d orbitals per spin (None: E)."""
+    bits = [0, 0]
+    for occupied in (alpha, beta):
+        pair = {"xz", "yz"} & occupied
+        if len(pair) == 1:
+            return None
+        for orb in occupied:
+            b = FRAME_BITS.get(orb, (1, 1) if orb == "xz" else (0, 0))  # the xz+yz pair counts once, as A2
+            bits = [bits[0] ^ b[0], bits[1] ^ b[1]]
+    return bits[0], bits[1]
+
+
+def _frame_orbital(share: np.ndarray, m: int) -> str | None:
+    """The frame d orbital MO ``m`` is ≥ PURE_SHARE of (share: d weights normalised per MO), else None."""
+    from dsplit.models.aom import D_ORBITALS
+
+    k = int(np.argmax(share[:, m]))
+    return D_ORBITALS[k] if share[k, m] >= PURE_SHARE else None
+
+
+def _frame_orbitals(w: np.ndarray, mos) -> dict[int, str] | None:
+    """MO → its frame d orbital when every MO is ≥ PURE_SHARE one of them, else None."""
+    share = w / np.maximum(w.sum(axis=0), 1e-12)
+    out = {int(m): _frame_orbital(share, int(m)) for m in mos}
+    return None if any(v is None for v in out.values()) else out
+
+
+def _occupied_frames(calc: Calculation, ch: int, limit: float, share: np.ndarray) -> set[str] | None:
+    """Frame d orbitals occupied in one spin of the ground determinant (None: not decidable).
+
+    A d set that is full or empty in this spin is taken whole, so MOs that mix its frame
+    orbitals (z² and x²−y² share one block of D2h and D2) do not matter there; a partly
+    filled set needs each of its MOs to be one frame orbital.
+    """
+    occ = _channels(calc.mf)[ch][1]
+    out: set[str] = set()
+    for dset, pick in zip(calc.complex.d_sets, calc.picks[ch]):
+        filled = [m for m in pick.mo_indices if occ[m] > limit]
+        if len(filled) == len(pick.mo_indices):
+            out |= set(dset.orbitals)
+        elif filled:
+            frames = [_frame_orbital(share, m) for m in filled]
+            if None in frames or any(_frame_orbital(share, m) is None for m in pick.mo_indices):
+                return None
+            out |= set(frames)
+    return out
+
+
+def _pure_component_pair(calc: Calculation, spin: int, holes: list[int], parts: list[int],
+                         target: str) -> tuple[int, int, str] | None:
+    """(hole, particle, component) whose excited determinant is a pure component of ``target``.
+
+    Only hole and particle MOs that are each one frame d orbital are tried.
+    """
+    chans = _channels(calc.mf)
+    projector = orthogonal_projector(calc.mol)
+    occupied: list[set[str]] = []
+    shares = []
+    for s_ in (0, 1):
+        ch = 0 if len(chans) == 1 else s_
+        w = d_weights(calc.mol, chans[ch][0], projector)
+        share = w / np.maximum(w.sum(axis=0), 1e-12)
+        limit = (0.5 if s_ == 0 else 1.5) if len(chans) == 1 else 0.5
+        frames = _occupied_frames(calc, ch, limit, share)
+        if frames is None:
+            return None
+        occupied.append(frames)
+        shares.append(share)
+    e = chans[0 if len(chans) == 1 else spin][2]
+    allowed = PURE_COMPONENTS[target]
+    found = []
+    for h in holes:
+        for p in parts:
+            fh, fp = _frame_orbital(shares[spin], h), _frame_orbital(shares[spin], p)
+            if fh is None or fp is None or fh not in occupied[spin]:
+                continue
+            moved = [set(o) for o in occupied]
+            moved[spin] = (moved[spin] - {fh}) | {fp}
+            bits = determinant_bits(*moved)
+            if bits in allowed:
+                found.append((-e[h], e[p], h, p, bits))
+    if not found:
+        return None
+    _, _, h, p, bits = min(found)
+    return h, p, _SUBGROUP_IRREP[bits]
 
 
 def geometry_family(cx) -> str:
     return {"octahedral": "octahedral", "tetrahedral": "tetrahedral"}.get(cx.geometry, cx.geometry)
 
 
+def _spin_kind(calc: Calculation) -> str:
+    """'high' when the state has the most unpaired electrons dⁿ allows, else 'low'."""
+    return "high" if calc.multiplicity == calc.complex.counts.multiplicities[-1] else "low"
+
+
+def align_manifold_to_frame(calc: Calculation) -> None:
+    """Rotate each degenerate d level's MOs onto the frame d orbitals, in place (see dcharacter)."""
+    from dsplit.qc.dcharacter import align_degenerate_to_frame
+
+    projector = orthogonal_projector(calc.mol)
+    full_occ = np.asarray(calc.mf.mo_occ)
+    for ch, (c, occ, e) in enumerate(_channels(calc.mf)):
+        align_degenerate_to_frame(calc.mol, c, e, occ if full_occ.ndim == 2 else full_occ, calc.picks[ch],
+                                  calc.complex.d_sets, projector, orbital_symmetries(calc.mf, c))
+
+
 def choose_transition(calc: Calculation) -> Transition | None:
-    """The first d–d excitation in one spin: highest filled lower set → lowest set with room."""
+    """The first d–d excitation in one spin: highest filled lower set → lowest set with room.
+
+    Degenerate d MOs are first aligned with the frame orbitals (:func:`align_manifold_to_frame`;
+    density and energies unchanged), so the pure-component rule sees z² and x²−y², not a mix.
+    """
+    align_manifold_to_frame(calc)
     cx = calc.complex
     sets = cx.d_sets
     per_spin = [calc.target_alpha, calc.target_beta]
     chans = _channels(calc.mf)
-    projector = orthogonal_projector(calc.mol)
     for spin in (0, 1):
         counts = per_spin[spin]
         for upper in range(len(sets)):
@@ -93,26 +213,23 @@ def choose_transition(calc: Calculation) -> Transition | None:
             c, occ, e = chans[ch]
             occ_spin = occ / 2.0 if len(chans) == 1 else occ
             picks = calc.picks[ch]
-            w = d_weights(calc.mol, c, projector)
             holes = [m for m in picks[lower].mo_indices if occ_spin[m] > 0.5]
             parts = [m for m in picks[upper].mo_indices if occ_spin[m] < 0.5]
             if not holes or not parts:
                 continue
-            pref = PREFERRED_PAIR.get(cx.geometry)
-            from dsplit.models.aom import D_ORBITALS
-
-            hole = particle = None
-            if pref and pref[0] in sets[lower].orbitals and pref[1] in sets[upper].orbitals:
-                share = w / np.maximum(w.sum(axis=0), 1e-12)
-                hole = max(holes, key=lambda m: w[D_ORBITALS.index(pref[0]), m])
-                particle = max(parts, key=lambda m: w[D_ORBITALS.index(pref[1]), m])
-                if (share[D_ORBITALS.index(pref[0]), hole] < PURE_SHARE
-                        or share[D_ORBITALS.index(pref[1]), particle] < PURE_SHARE):
-                    hole = particle = None  # the frame's d orbitals are mixed in the MOs: no pure component
+            hole = particle = component = None
+            target = UPPER_STATE.get((geometry_family(cx), _spin_kind(calc)), {}).get(cx.d_count)
+            if target is not None:
+                pure = _pure_component_pair(calc, spin, holes, parts, target)
+                if pure is not None:
+                    hole, particle, irrep = pure
+                    sub = "D4h" if geometry_family(cx) == "octahedral" else "D2d"
+                    g = "g" if sub == "D4h" else ""
+                    component = f"{irrep}{g} ⊂ {target}{g} ({sub})"
             if hole is None:
                 hole = max(holes, key=lambda m: e[m])
                 particle = min(parts, key=lambda m: e[m])
-            return Transition(spin, lower, upper, int(hole), int(particle))
+            return Transition(spin, lower, upper, int(hole), int(particle), component)
     return None
 
 
@@ -193,6 +310,7 @@ def state_estimator(calc: Calculation, tr: Transition, folder, progress=None,
     labels = [s.label for s in calc.complex.d_sets]
     out: dict[str, Any] = {"excited_configuration": " ".join(f"{l}^{a + b}" for l, a, b in zip(labels, *exc)),
                            "transition": f"{labels[tr.lower]} → {labels[tr.upper]} ({'αβ'[tr.spin]})",
+                           "component": tr.component,
                            "method": method, "energy_ground_hartree": ground.energy_hartree,
                            "converged": run.converged, "configuration_verified": run.configuration_verified,
                            "notes": notes}
@@ -268,15 +386,54 @@ def _root_analysis(td, calc: Calculation, table, k: int,
     return dd / total, band / total, pairs[:3]
 
 
-def excitation_estimator(calc: Calculation, table, tr: Transition | None, n_roots: int = 3) -> dict[str, Any]:
-    """Lowest TDA (CIS for HF) roots in the d–d symmetry block; d–d roots kept."""
+#: roots asked for, in turn, until one belongs to the ligand-field band: charge-transfer roots of the same
+#: block can lie below it (cis-[CrCl2(NH3)4]+: Cl → Cr roots under the t2g → eg ones)
+ROOT_COUNTS = (3, 6, 12)
+
+
+def excitation_estimator(calc: Calculation, table, tr: Transition | None,
+                         root_counts: tuple[int, ...] = ROOT_COUNTS) -> dict[str, Any]:
+    """Lowest TDA (CIS for HF) roots in the d–d symmetry block; d–d roots kept.
+
+    Asks for ``root_counts[0]`` roots and for the next count only when none of them is a
+    ligand-field band root, so a band above charge-transfer roots is still found.
+    """
     t0 = time.perf_counter()
+    notes: list[str] = []
+    roots: list[dict[str, Any]] = []
+    for n in root_counts:
+        run = _tda_roots(calc, table, tr, n)
+        if "error" in run:
+            return {**energy_block(None), "notes": notes + [run["error"]]}
+        roots, run_notes = run["roots"], run["notes"]
+        if any(r["ligand_field_band"] for r in roots) or tr is None:
+            break
+    notes += run_notes
+    if len(roots) > root_counts[0]:
+        notes.append(f"no band root among the first {root_counts[0]}; {len(roots)} roots asked")
+    dd = [r for r in roots if r["ligand_field_band"]]
+    if any(r["d_d"] and not r["ligand_field_band"] for r in roots):
+        notes.append("d–d roots inside one d set (a set split by the state's lower symmetry) are listed "
+                     "but are not the ligand-field band")
+    first = None
+    if dd:
+        e0 = dd[0]["energy_eV"]
+        band = [r["energy_eV"] for r in dd if r["energy_eV"] - e0 < ROOT_DEGENERACY_EV]
+        first = float(np.mean(band)) / hartree_to_ev(1.0)
+    else:
+        notes.append("no root of the lower → upper d-set band among the roots computed: no value")
+    return {**energy_block(first), "method": "CIS" if calc.setup.is_hf else "TDA", "roots": roots, "notes": notes,
+            "seconds": time.perf_counter() - t0}
+
+
+def _tda_roots(calc: Calculation, table, tr: Transition | None, n_roots: int) -> dict[str, Any]:
+    """{'roots': [...], 'notes': [...]} of ``n_roots`` TDA roots, or {'error': why}."""
     mf = calc.mf
     notes: list[str] = []
     try:
         td = mf.TDA()
     except Exception as exc:
-        return {**energy_block(None), "notes": [f"TDA not available for this reference ({exc})"]}
+        return {"error": f"TDA not available for this reference ({exc})"}
     td.nstates = n_roots
     td.conv_tol = TDA_CONV_TOL
     td.verbose = 0
@@ -293,7 +450,7 @@ def excitation_estimator(calc: Calculation, table, tr: Transition | None, n_root
     try:
         td.kernel()
     except Exception as exc:  # e.g. a solvent model without a response kernel
-        return {**energy_block(None), "notes": [f"TDA failed ({type(exc).__name__}: {exc})"]}
+        return {"error": f"TDA failed ({type(exc).__name__}: {exc})"}
     if not all(np.atleast_1d(td.converged)):
         notes.append("not every TDA root converged; unconverged roots dropped")
     try:
@@ -317,19 +474,7 @@ def excitation_estimator(calc: Calculation, table, tr: Transition | None, n_root
                       "symmetry": str(getattr(td, "wfnsym", None) or ""), "d_d": frac >= D_D_THRESHOLD,
                       "d_d_weight": frac, "band_weight": band_frac, "ligand_field_band": band_frac >= D_D_THRESHOLD,
                       "pairs": labs})
-    dd = [r for r in roots if r["ligand_field_band"]]
-    if any(r["d_d"] and not r["ligand_field_band"] for r in roots):
-        notes.append("d–d roots inside one d set (a set split by the state's lower symmetry) are listed "
-                     "but are not the ligand-field band")
-    first = None
-    if dd:
-        e0 = dd[0]["energy_eV"]
-        band = [r["energy_eV"] for r in dd if r["energy_eV"] - e0 < ROOT_DEGENERACY_EV]
-        first = float(np.mean(band)) / hartree_to_ev(1.0)
-    else:
-        notes.append("no root of the lower → upper d-set band among the roots computed: no value")
-    return {**energy_block(first), "method": "CIS" if calc.setup.is_hf else "TDA", "roots": roots, "notes": notes,
-            "seconds": time.perf_counter() - t0}
+    return {"roots": roots, "notes": notes}
 
 
 def _set_gap(sets, lower_label: str, upper_label: str) -> float | None:

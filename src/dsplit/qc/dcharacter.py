@@ -113,3 +113,50 @@ def spin_resolved_target(sets: list[DSet], occupations: list[int], multiplicity:
     if excess != 0:
         raise ValueError("configuration and multiplicity are incompatible")
     return alpha, beta
+
+
+#: MOs of one d set within this many Eh of each other (same occupation and Abelian block) count as one
+#: degenerate level; converged ideal complexes split a degenerate set by < 1e-6 Eh (measured, common practice)
+DEGENERATE_EH = 1e-4
+
+
+def align_degenerate_to_frame(mol, mo_coeff: np.ndarray, mo_energy: np.ndarray, mo_occ: np.ndarray,
+                              picks: list[SetPick], sets: list[DSet], projector: np.ndarray,
+                              symmetries: list[str] | None = None) -> int:
+    """Rotate degenerate d-based MOs in place so each is one frame d orbital; returns how many groups moved.
+
+    A degenerate level in one Abelian block (z² and x²−y² share Ag of D2h and A of D2) comes out of
+    the eigensolver in an arbitrary mix.  For a group G of such MOs, b_kj = r_k · a_kj where a_kj are
+    MO j's meta-Löwdin amplitudes on frame orbital k (all d shells) and r_k their leading singular
+    vector; the orthogonal R maximising tr(B R) is R = V Uᵀ from B = U Σ Vᵀ (orthogonal Procrustes,
+    Schönemann, Psychometrika 31, 1 (1966)).  C_G → C_G R leaves the density, the energy and every
+    orbital energy unchanged (same level, same occupation).
+    """
+    idx = metal_d_indices(mol)
+    moved = 0
+    for pick, dset in zip(picks, sets):
+        mos = sorted(pick.mo_indices, key=lambda m: mo_energy[m])
+        groups: list[list[int]] = []
+        for m in mos:
+            g = groups[-1] if groups else None
+            if (g and abs(mo_energy[m] - mo_energy[g[0]]) < DEGENERATE_EH and mo_occ[m] == mo_occ[g[0]]
+                    and (symmetries is None or symmetries[m] == symmetries[g[0]])):
+                g.append(m)
+            else:
+                groups.append([m])
+        for g in groups:
+            if len(g) < 2 or len(g) > len(dset.orbitals):
+                continue
+            amp = projector @ mo_coeff[:, g]
+            rows = []
+            for k in dset.orbitals:
+                a = amp[idx[k]]  # (n_shells, n)
+                u, _, _ = np.linalg.svd(a, full_matrices=False)
+                rows.append(u[:, 0] @ a)
+            b = np.array(rows)
+            keep = np.argsort(-np.linalg.norm(b, axis=1))[: len(g)]
+            u, _, vt = np.linalg.svd(b[np.sort(keep)])
+            r = vt.T @ u.T
+            mo_coeff[:, g] = mo_coeff[:, g] @ r
+            moved += 1
+    return moved
