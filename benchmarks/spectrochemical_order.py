@@ -5,10 +5,13 @@ F⁻ < H2O < NH3 < CN⁻.  Prints Δ(state) per ligand and whether the order hol
 Cr–L distances: typical crystal distances of the chromium(III) complexes (from memory, as in
 benchmarks/validation.py); at covalent-radius sums (Cordero 2008) the aqua ion is 0.09 Å too long and
 B3LYP/3-21G then puts it below fluorido (measured here: 1.59 against 1.94 eV).
-Measured here with these distances (PCM water, state estimator, all ΔSCF verified):
-B3LYP/3-21G, grid level 1: F⁻ 3.107, H2O 3.055, NH3 3.047, CN⁻ 1.937 eV — differs (the cyanido
-value is far below its measured band, about 3.3 eV; not yet understood); HF/3-21G: F⁻ 3.36,
-H2O 3.34 eV — differs.  That is why the series is not a CI test yet.
+Measured here with these distances (PCM water, state estimator, all ΔSCF verified), with the ΔSCF
+pair that makes a ⁴T2g component (|xz yz x²−y²|, see analysis/splitting.py):
+B3LYP/STO-3G: F⁻ 2.33, H2O 1.94, NH3 2.67, CN⁻ 2.95 eV — differs (aqua below fluorido);
+B3LYP/3-21G (benchmarks/validation.py): F⁻ 16,700, H2O 16,100 cm⁻¹ — the same swap, the rest in order.
+Until 2026-12 the pair xy → z² was used, which makes a ⁴T1g component (A2g), and measured the second
+band: B3LYP/3-21G F⁻ 3.107, H2O 3.055, NH3 3.047, CN⁻ 4.069 eV.  The F⁻/H2O order is the part no
+cheap method here gets right, so the series is not a CI test.
 Run: python benchmarks/spectrochemical_order.py [theory] [basis]   (default B3LYP 3-21G, PCM water)
 """
 

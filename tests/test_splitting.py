@@ -74,8 +74,8 @@ def test_no_spin_allowed_band_for_high_spin_d5(tmp_path):
 
 
 # The spectrochemical order of the state estimator (F⁻ < H2O < NH3 < CN⁻ for Cr(III)) is checked by
-# benchmarks/spectrochemical_order.py: minimal-basis HF, the only method cheap enough for the
-# default run, puts F⁻ above H2O (3.59 vs 2.96 eV, HF/STO-3G PCM) and fails for cyanide.
+# benchmarks/spectrochemical_order.py, not here: no method cheap enough for the default run puts F⁻
+# below H2O (measured: B3LYP/STO-3G 2.33 vs 1.94 eV, B3LYP/3-21G 2.07 vs 2.00 eV, PCM water).
 
 
 def test_failed_unrestricted_state_is_redone_restricted_open(vf4, tmp_path, monkeypatch):
