@@ -5,6 +5,11 @@ Lever, Inorganic Electronic Spectroscopy, 2nd ed. (1984) and Figgis & Hitchman, 
 Theory and Its Applications (2000) — all from memory, rounded to 100 cm⁻¹.  For d3 and d8 the
 first band equals Δo; for d1 and d6 high spin it is the single band (Jahn–Teller broadened).
 Prints per complex and the mean absolute percent error per estimator.
+Measured here (B3LYP/3-21G, PCM water, 2026-12; cm⁻¹ orbital / state / excitation against measured):
+[CrF6]3− 29684/16679/19219 vs 15200; [Cr(H2O)6]3+ 29080/16119/18742 vs 17400;
+[Cr(NH3)6]3+ 33045/24574/24747 vs 21500; [Cr(CN)6]3− 35508/26132/28193 vs 26700;
+[Ti(H2O)6]3+ 19626/16550/16921 vs 20300; [Ni(H2O)6]2+ 24712/3679/7304 vs 8500;
+[Fe(H2O)6]2+ 11130/3802/3724 vs 10400.  Mean absolute error: orbital 64 %, state 25 %, excitation 21 %.
 Run: python benchmarks/validation.py [basis]   (default def2-SVP; hours on a laptop)
 """
 

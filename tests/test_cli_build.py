@@ -55,3 +55,16 @@ def test_ligand_library_listing():
     keys = {row["key"] for row in rows}
     assert {"fluorido", "chlorido", "bromido", "iodido", "oxido", "hydroxido", "aqua", "ammine", "carbonyl",
             "cyanido", "isothiocyanato", "point"} <= keys
+
+
+def test_tables_are_not_cut_when_output_is_piped():
+    # rich cuts cells to "…" at its 80-column fallback when stdout is not a terminal; a chemist
+    # piping a table into a file must get whole cells (common practice for command-line tools)
+    from dsplit.chem.ligands import library
+
+    r = CliRunner().invoke(main, ["ligands"])
+    assert r.exit_code == 0
+    assert "…" not in r.output
+    for lg in library().values():
+        assert "…" not in lg.geometry_source + lg.role
+        assert lg.key in r.output and lg.role in r.output

@@ -95,8 +95,9 @@ def write_geometry(cx: Complex, path: str | os.PathLike) -> Path:
 
 def print_summary(summary: dict[str, Any]) -> None:
     """Human summary table (rich)."""
-    from rich.console import Console
     from rich.table import Table
+
+    from dsplit.console import output_console
 
     t = Table(title=f"{summary['name']}: {summary['formula']}", show_header=False)
     t.add_column("what", style="bold")
@@ -119,7 +120,7 @@ def print_summary(summary: dict[str, Any]) -> None:
     ]
     for k, v in rows:
         t.add_row(k, str(v))
-    c = Console()
+    c = output_console()
     c.print(t)
     for note in summary["notes"]:
         c.print(f"note: {note}")

@@ -86,8 +86,9 @@ def ligands_cmd(as_json: bool) -> None:
                                 "atoms": list(lg.atoms), "geometry_source": lg.geometry_source}
                                for lg in libs], indent=2, ensure_ascii=False))
         return
-    from rich.console import Console
     from rich.table import Table
+
+    from dsplit.console import output_console
 
     table = Table(title="dsplit ligand library")
     for col in ("name", "formula", "also", "donor", "charge", "role", "geometry from"):
@@ -95,7 +96,7 @@ def ligands_cmd(as_json: bool) -> None:
     for lg in libs:
         table.add_row(lg.key, lg.formula, ", ".join(lg.aliases), lg.donor, f"{lg.charge:+d}" if lg.charge else "0",
                       lg.role, lg.geometry_source)
-    Console().print(table)
+    output_console().print(table)
 
 
 def _parse_ligand_flag(text: str | None) -> dict | None:

@@ -27,10 +27,11 @@ def _fmt(x, digits: int) -> str:
 
 
 def _print_ladder(doc: dict, out_dir) -> None:
-    from rich.console import Console
     from rich.table import Table
 
-    c = Console()
+    from dsplit.console import output_console
+
+    c = output_console()
     multi = len({s["theory"] for s in doc["spin_states"]}) > 1
     t = Table(title=f"{doc['name']}: {doc['complex']['formula']} spin states")
     for col in (["theory"] if multi else []) + ["2S+1", "configuration", "ΔE kJ/mol", "kcal/mol", "cm⁻¹", "eV",
@@ -88,10 +89,10 @@ def spin_states_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer
 
 
 def _print_optimization(doc: dict, out_dir) -> None:
-    from rich.console import Console
+    from dsplit.console import output_console
 
     o = doc["optimization"]
-    c = Console()
+    c = output_console()
     c.print(f"[bold]{doc['name']}[/bold]: {doc['complex']['formula']}  {o['mode']} optimisation, "
             f"{'converged' if o['converged'] else 'NOT converged'} in {o['steps']} steps")
     c.print(f"final gradient {_fmt(o['final_gradient'], 6)} Eh/Å (threshold {o['threshold']:.1e}: "

@@ -18,10 +18,11 @@ def frontier_rows(result: dict[str, Any], spin: str, around: int = FRONTIER_ROWS
 
 
 def print_run(result: dict[str, Any], out_dir: Path) -> None:
-    from rich.console import Console
     from rich.table import Table
 
-    c = Console()
+    from dsplit.console import output_console
+
+    c = output_console()
     cx = result["complex"]
     m = result["method"]
     ok = result["converged"] and result["configuration_verified"]
