@@ -387,8 +387,10 @@ def _root_analysis(td, calc: Calculation, table, k: int,
 
 
 #: roots asked for, in turn, until one belongs to the ligand-field band: charge-transfer roots of the same
-#: block can lie below it (cis-[CrCl2(NH3)4]+: Cl → Cr roots under the t2g → eg ones)
-ROOT_COUNTS = (3, 6, 12)
+#: block can lie below it (cis-[CrCl2(NH3)4]+: Cl → Cr roots under the t2g → eg ones).  Two first: each
+#: Davidson vector costs a response build ([TiF6]3− B3LYP/def2-SVP: 18.0 s for 2 roots, 26.4 s for 3,
+#: the same band root, second of the two)
+ROOT_COUNTS = (2, 6, 12)
 
 
 def excitation_estimator(calc: Calculation, table, tr: Transition | None,
