@@ -57,11 +57,12 @@ def test_ligand_library_listing():
             "cyanido", "isothiocyanato", "point"} <= keys
 
 
-def test_tables_are_not_cut_when_output_is_piped():
+def test_tables_are_not_cut_when_output_is_piped(monkeypatch):
     # rich cuts cells to "…" at its 80-column fallback when stdout is not a terminal; a chemist
     # piping a table into a file must get whole cells (common practice for command-line tools)
     from dsplit.chem.ligands import library
 
+    monkeypatch.delenv("COLUMNS", raising=False)  # an exported $COLUMNS is the user's choice and wins
     r = CliRunner().invoke(main, ["ligands"])
     assert r.exit_code == 0
     assert "…" not in r.output
