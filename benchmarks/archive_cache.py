@@ -17,13 +17,13 @@ SPEC = {"name": "bench-tif6", "complex": {"metal": "Ti", "oxidation_state": 4, "
                                           "ligands": {"fluorido": 6}},
         "method": {"theory": "HF", "basis": "3-21g", "solvent": "none"}}
 HIT = ("import sys, time; t = time.perf_counter(); from dsplit.spec import spec_from_dict; "
-       "from dsplit.archive.store import compute_archived; "
+       "from dsplit.api.compute import compute_archived; "
        "r = compute_archived(spec_from_dict({spec!r}), sys.argv[1], threads=1); "
        "print(time.perf_counter() - t, r.exit_code)")
 
 
 def main() -> None:
-    from dsplit.archive.store import compute_archived
+    from dsplit.api.compute import compute_archived
     from dsplit.spec import spec_from_dict
 
     with tempfile.TemporaryDirectory() as tmp:

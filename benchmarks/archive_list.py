@@ -16,7 +16,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
 N = 1000
-LIST = ("import sys; from dsplit.cli_archive import archive_group; "
+LIST = ("import sys; from dsplit.cli.archive import archive_group; "
         "archive_group.main(['list', '--archive', sys.argv[1]] + sys.argv[2:], prog_name='archive')")
 
 

@@ -23,7 +23,7 @@ def _cm1(doc: dict, estimator: str) -> str:
 
 
 def main() -> None:
-    from dsplit.compute_api import compute
+    from dsplit.api.compute import compute
     from dsplit.spec import load_spec
 
     args = [a for a in sys.argv[1:] if not a.startswith("--")]

@@ -24,8 +24,8 @@ DEFAULT = {"name": "mnco6-bench", "complex": {"metal": "Mn", "oxidation_state": 
 def main() -> None:
     import numpy as np
 
-    from dsplit.compute_api import preflight
-    from dsplit.models.units import hartree_to_kjmol
+    from dsplit.qc.setup import preflight
+    from dsplit.units import hartree_to_kjmol
     from dsplit.qc.optimize import optimize_full, optimize_symmetric
     from dsplit.spec import load_spec, spec_from_dict
 

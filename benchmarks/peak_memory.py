@@ -17,7 +17,7 @@ CHILD = r"""
 import sys
 from pathlib import Path
 from dsplit.spec import load_spec
-from dsplit.compute_api import compute
+from dsplit.api.compute import compute
 run = compute(load_spec(sys.argv[1]), Path(sys.argv[2]))
 import json; print(json.dumps({"nao": run.result["method"]["nao"], "exit": run.exit_code}))
 """

@@ -17,7 +17,7 @@ from pathlib import Path
 
 
 def main() -> None:
-    from dsplit.compute_api import compute
+    from dsplit.api.compute import compute
     from dsplit.spec import load_spec
 
     root = Path(__file__).resolve().parent.parent

@@ -27,7 +27,8 @@ DISTANCES = {"fluorido": 1.93, "aqua": 1.96, "ammine": 2.07, "cyanido": 2.08}
 
 
 def main() -> None:
-    from dsplit.analysis.splitting import choose_transition, state_estimator
+    from dsplit.analysis.splitting import choose_transition, state_estimate
+    from dsplit.qc.excited import run_delta_scf
     from dsplit.geometry.build import ComplexRequest, build_complex
     from dsplit.qc.engine import run_calculation
     from dsplit.qc.setup import resolve_method
@@ -42,7 +43,7 @@ def main() -> None:
         setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent="water"))
         with tempfile.TemporaryDirectory() as tmp:
             calc = run_calculation(cx, setup, Path(tmp), stability=False)
-            st = state_estimator(calc, choose_transition(calc), Path(tmp)) if calc.ok else {}
+            st = state_estimate(calc, run_delta_scf(calc, choose_transition(calc), Path(tmp))) if calc.ok else {}
         deltas[lig] = st.get("delta_eV")
         print(f"{lig:<10} Δ(state) = {deltas[lig]} eV  verified {st.get('configuration_verified')}  "
               f"{time.perf_counter() - t0:.0f} s", flush=True)

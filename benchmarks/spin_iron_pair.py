@@ -32,7 +32,7 @@ PAIR = (("aqua", 2.12), ("cyanido", 1.94))  # start distances, Å (typical Fe(II
 
 def main() -> None:
     from dsplit.spec import spec_from_dict
-    from dsplit.spin_api import spin_states
+    from dsplit.api.spin import spin_states
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--optimize", action="store_true")
@@ -60,7 +60,7 @@ def main() -> None:
         st = {s["multiplicity"]: s for s in doc["spin_states"]}
         ok = all(s["verified"] for s in st.values())
         de = (st[5]["energy_hartree"] - st[1]["energy_hartree"]) if ok else None
-        from dsplit.models.units import hartree_to_kjmol
+        from dsplit.units import hartree_to_kjmol
 
         print(f"[Fe({lig})6]: solvent {doc['method']['solvent']['name']}, wall {wall:.0f} s")
         for m, s in sorted(st.items()):

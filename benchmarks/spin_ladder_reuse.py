@@ -21,7 +21,7 @@ DEFAULT = {"name": "vf4-bench", "complex": {"metal": "V", "oxidation_state": 3, 
 
 
 def _run(spec, folder: Path, reuse: bool, functionals: str, multiplicities: str | None, threads: int, optimize: bool):
-    from dsplit.spin_api import spin_states
+    from dsplit.api.spin import spin_states
 
     t0 = time.perf_counter()
     run = spin_states(spec, folder, functionals=functionals, multiplicities=multiplicities, reuse=reuse,

@@ -20,6 +20,7 @@ def timed(workers: int, threads: int) -> tuple[float, int]:
     sys.path.insert(0, str(ROOT / "tests"))
     from test_study_run import write_study
 
+    from dsplit.api.compute import compute_archived
     from dsplit.study.api import plan_study, run_study
 
     with tempfile.TemporaryDirectory() as tmp:
@@ -28,7 +29,7 @@ def timed(workers: int, threads: int) -> tuple[float, int]:
         root.mkdir()
         plan = plan_study(path, root)
         t0 = time.perf_counter()
-        out = run_study(plan, root, workers=workers, threads=threads, quiet=True)
+        out = run_study(plan, root, compute=compute_archived, workers=workers, threads=threads, quiet=True)
         wall = time.perf_counter() - t0
         assert out.exit_code == 0, out.outcomes
         return wall, len(plan.tasks)

@@ -32,7 +32,7 @@ SET = [
 
 
 def main() -> None:
-    from dsplit.compute_api import compute
+    from dsplit.api.compute import compute
     from dsplit.spec import spec_from_dict
 
     basis = sys.argv[1] if len(sys.argv) > 1 else "def2-SVP"

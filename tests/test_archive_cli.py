@@ -13,7 +13,7 @@ import pytest
 from click.testing import CliRunner
 
 from dsplit.archive.store import run_archived
-from dsplit.cli_archive import archive_group, study_cmd
+from dsplit.cli.archive import archive_group, study_cmd
 from test_archive_index import fake_result, fake_run, fake_spec
 
 
@@ -119,7 +119,7 @@ def test_compare_table_and_figure(arch, tmp_path):
     assert r.exit_code == 0, r.output
     rows = list(csv.DictReader(out.open()))
     assert [row["run_id"] for row in rows] == [runs[2].out_dir.name, runs[0].out_dir.name]
-    from dsplit.models.units import ev_to_cm1
+    from dsplit.units import ev_to_cm1
 
     assert float(rows[0]["delta_orbital_cm1"]) == pytest.approx(ev_to_cm1(1.02))
     assert fig.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG spec, §5.2)

@@ -36,7 +36,7 @@ def fake_spec(i: int, name: str | None = None, metal: str = "Fe", ox: int = 2):
 def fake_result(spec, delta_ev: float, checks=("agrees", "differs", "not applicable")) -> dict:
     """A result.json-shaped document from a real built complex and a made-up Δ."""
     from dsplit.geometry.build import build_complex
-    from dsplit.models.units import ev_to_cm1
+    from dsplit.units import ev_to_cm1
     from dsplit.report.result import complex_section
 
     cx = build_complex(spec.complex)

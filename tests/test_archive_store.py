@@ -16,7 +16,8 @@ import pytest
 
 from dsplit.archive import index
 from dsplit.archive.paths import default_archive_root, run_id_for
-from dsplit.archive.store import archive_run_id, compute_archived, lookup
+from dsplit.api.compute import compute_archived
+from dsplit.archive.store import archive_run_id, lookup
 from dsplit.errors import InputError
 from dsplit.spec import spec_from_dict
 

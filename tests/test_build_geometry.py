@@ -80,7 +80,7 @@ def test_square_pyramid_apical_angle_and_prism():
 def test_extxyz_roundtrip_keeps_charge_and_multiplicity(tmp_path):
     import ase.io
 
-    from dsplit.build_api import write_geometry
+    from dsplit.api.build import write_geometry
 
     cx = make("Cr", "octahedral", {"fluorido": 6}, oxidation_state=3)
     path = write_geometry(cx, tmp_path / "cr.xyz")

@@ -79,7 +79,7 @@ def test_electron_totals_and_ionic_count():
 
 
 def test_mixed_isomers_listed():
-    from dsplit.build_api import isomer_table
+    from dsplit.api.build import isomer_table
     from dsplit.geometry.build import ComplexRequest
 
     # MA4B2 has cis and trans; MA3B3 fac and mer (textbook isomer counts); MA2B2C2 five geometric isomers

@@ -1,4 +1,4 @@
-"""When fixed block occupations reach the wanted excited configuration (qc/engine.py).
+"""When fixed block occupations reach the wanted excited configuration (qc/excited.py).
 
 Fixing the electron count per symmetry block keeps aufbau order inside each block
 (PySCF ``irrep_nelec``; common practice), so a wanted particle above an empty orbital
@@ -7,7 +7,7 @@ of the same block cannot be reached that way.
 
 import numpy as np
 
-from dsplit.qc.engine import block_aufbau_reaches
+from dsplit.qc.excited import block_aufbau_reaches
 
 
 def test_lowest_orbital_of_block_reached():

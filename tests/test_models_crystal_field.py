@@ -5,7 +5,7 @@ import pytest
 
 from dsplit.models.aom import D_ORBITALS
 from dsplit.models.crystal_field import point_charge_levels, point_charge_matrix
-from dsplit.models.units import BOHR_IN_ANGSTROM
+from dsplit.units import BOHR_IN_ANGSTROM
 
 A = 2.0  # Å
 R2, R4 = 0.7, 1.3  # Å², Å⁴: arbitrary radial moments

@@ -19,7 +19,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from dsplit.cli import main  # registers dsplit.cli_spin's commands
+from dsplit.cli import main
 from dsplit.spec import MethodSpec
 
 TIF4 = dict(metal="Ti", geometry="tetrahedral", ligands={"fluorido": 4}, oxidation_state=4, bond_length=1.74)

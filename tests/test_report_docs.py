@@ -3,7 +3,7 @@
 Keys follow /tmp/interfaces.md (schema dsplit.result v1 plus the splitting, models,
 checks, level_diagram, measured, spin_states and optimization sections).  Energies are
 invented but internally consistent: every eV / cm⁻¹ / kJ mol⁻¹ triple is converted with
-dsplit.models.units, as the pipeline does.
+dsplit.units, as the pipeline does.
 """
 
 from __future__ import annotations
@@ -11,7 +11,7 @@ from __future__ import annotations
 import copy
 from typing import Any
 
-from dsplit.models.units import ev_to_cm1, ev_to_hartree, hartree_to_kjmol
+from dsplit.units import ev_to_cm1, ev_to_hartree, hartree_to_kjmol
 
 # Oh orbitals → D2h labels (t2g → b1g+b2g+b3g, eg → ag+ag, t1u → b1u+b2u+b3u; correlation
 # table in Cotton, Chemical Applications of Group Theory, 3rd ed., Appendix — from memory).

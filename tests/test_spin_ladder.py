@@ -19,8 +19,9 @@ import json
 import pytest
 from click.testing import CliRunner
 
-from dsplit.cli import main  # registers dsplit.cli_spin's commands
-from dsplit.spin_api import parse_multiplicities, relative_energies, spin_contamination
+from dsplit.cli import main
+from dsplit.models.filling import spin_contamination
+from dsplit.api.spin import parse_multiplicities, relative_energies
 
 VF4 = ('name = "vf4"\n[complex]\nmetal = "V"\noxidation_state = 3\ngeometry = "tetrahedral"\n'
        'ligands = { fluorido = 4 }\nbond_length = 1.85\n[method]\ntheory = "HF"\nbasis = "sto-3g"\n'
@@ -39,7 +40,7 @@ def test_expected_spin_square(mult, expected):
 
 
 def test_contamination_threshold():
-    # 10 % of S(S+1), at least 0.1 (the rule stated in dsplit.spin_api)
+    # 10 % of S(S+1), at least 0.1 (the rule stated in dsplit.api.spin)
     assert spin_contamination(2.15, 3)[2] is False
     assert spin_contamination(2.25, 3)[2] is True
     assert spin_contamination(0.84, 2)[2] is False

@@ -9,8 +9,10 @@ from __future__ import annotations
 import pytest
 
 from dsplit.analysis.orbitals import build_orbital_table
-from dsplit.analysis.splitting import choose_transition, estimate_splitting, state_estimator
+from dsplit.analysis.splitting import choose_transition, state_estimate
+from dsplit.api.estimators import run_estimators
 from dsplit.qc.engine import run_calculation
+from dsplit.qc.excited import run_delta_scf
 from dsplit.qc.setup import resolve_method
 from dsplit.spec import MethodSpec, Spec
 from tests.conftest import make
@@ -28,7 +30,15 @@ def vf4(tmp_path_factory):
     calc = _calc(cx, tmp, theory="B3LYP")
     table = build_orbital_table(calc)
     spec = Spec(name="vf4", complex=None)
-    return cx, calc, table, estimate_splitting(spec, cx, calc, table, tmp)
+    return cx, calc, table, run_estimators(spec, cx, calc, table, tmp)
+
+
+def state_estimator(calc, tr, folder, restricted_open=None):
+    """ΔSCF record → state estimate; ``restricted_open`` as qc.excited.restricted_open_ground returns it."""
+    ro = restricted_open[0] if restricted_open else None
+    record = run_delta_scf(calc, tr, folder, restricted_open=ro,
+                           restricted_open_transition=choose_transition(ro) if ro is not None else None)
+    return state_estimate(calc, record)
 
 
 def test_three_estimators_run_and_are_consistent(vf4):
@@ -39,7 +49,7 @@ def test_three_estimators_run_and_are_consistent(vf4):
     st = split["state"]
     assert st["configuration_verified"] and st["excited_configuration"] == "e^0 t2^1"
     assert st["delta_eV"] > 0
-    from dsplit.models.units import hartree_to_ev
+    from dsplit.units import hartree_to_ev
 
     assert abs(st["delta_eV"] - hartree_to_ev(st["energy_excited_hartree"] - st["energy_ground_hartree"])) < 1e-9
     # excitation: the d–d roots are symmetry-labelled and their hole/particle are e → t2
@@ -85,27 +95,27 @@ def test_failed_unrestricted_state_is_redone_restricted_open(vf4, tmp_path, monk
     # (common practice).
     from dataclasses import replace
 
-    from dsplit.analysis import splitting
-    from dsplit.models.units import hartree_to_ev
+    from dsplit.qc import excited
+    from dsplit.units import hartree_to_ev
 
     cx, calc, _, out = vf4
     u_delta = out["splitting"]["state"]["delta_eV"]
-    real = splitting.run_excited
+    real = excited.run_excited
 
     def failing_unrestricted(ground, *args, **kw):
         run = real(ground, *args, **kw)
         return replace(run, converged=False) if ground.unrestricted else run
 
-    monkeypatch.setattr(splitting, "run_excited", failing_unrestricted)
-    ro = splitting.restricted_open_ground(calc, tmp_path)
+    monkeypatch.setattr(excited, "run_excited", failing_unrestricted)
+    ro = excited.restricted_open_ground(calc, tmp_path)
     assert ro[0] is not None and ro[1].endswith("ROKS")
-    st = splitting.state_estimator(calc, choose_transition(calc), tmp_path, restricted_open=ro)
+    st = state_estimator(calc, choose_transition(calc), tmp_path, restricted_open=ro)
     assert st["configuration_verified"] and "restricted open" in st["method"]
     assert abs(st["energy_ground_hartree"] - ro[0].energy_hartree) < 1e-12
     assert abs(st["delta_eV"] - hartree_to_ev(st["energy_excited_hartree"] - st["energy_ground_hartree"])) < 1e-9
     assert abs(st["delta_eV"] - u_delta) < 0.15
     # without a restricted-open ground the failure stays a failure: no value
-    st2 = splitting.state_estimator(calc, choose_transition(calc), tmp_path)
+    st2 = state_estimator(calc, choose_transition(calc), tmp_path)
     assert st2["delta_eV"] is None and not st2["converged"]
 
 
@@ -126,7 +136,7 @@ def test_hole_under_ligand_levels_is_flagged(tmp_path):
     syms = orbital_symmetries(calc.mf, calc.mf.mo_coeff[tr.spin])
     assert buried and all(e[m] > e[tr.hole] and occ[m] == 1 and syms[m] == syms[tr.hole] for m in buried)
     assert not set(buried) & {m for p in calc.picks[tr.spin] for m in p.mo_indices}
-    st = splitting.state_estimator(calc, tr, tmp_path)
+    st = state_estimator(calc, tr, tmp_path)
     assert any(n.startswith("caution: the unrestricted hole lies under") for n in st["notes"])
 
 
@@ -170,7 +180,7 @@ def test_d2_tetrahedral_targets_the_t2_component(tmp_path):
     from dataclasses import replace
 
     from dsplit.analysis.splitting import _frame_orbital
-    from dsplit.qc.dcharacter import d_weights, orthogonal_projector
+    from dsplit.qc.dcharacter import align_manifold_to_frame, d_weights, orthogonal_projector
 
     cx = make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=3)
     calc = _calc(cx, tmp_path, theory="B3LYP")  # measured B3LYP/STO-3G: ³T2 0.54 eV, ³T1 1.34 eV (UHF: ³T1 fails)
@@ -183,8 +193,11 @@ def test_d2_tetrahedral_targets_the_t2_component(tmp_path):
     dm = c0[:, e_pair] @ c0[:, e_pair].T
     rot = np.array([[np.cos(0.6), -np.sin(0.6)], [np.sin(0.6), np.cos(0.6)]])
     c0[:, e_pair] = c0[:, e_pair] @ rot
-    tr = choose_transition(calc)  # aligns the pair with z² and x²−y² again, density unchanged
+    # the calculation stage aligns the pair with z² and x²−y² again, density unchanged
+    align_manifold_to_frame(calc.mf, calc.picks, calc.complex.d_sets, orthogonal_projector(calc.mol))
     assert np.allclose(c0[:, e_pair] @ c0[:, e_pair].T, dm, atol=1e-10)
+    calc._cache.clear()  # the test changed the orbitals behind the record's back
+    tr = choose_transition(calc)
     c = calc.mf.mo_coeff[tr.spin]
     mos = [m for p in calc.picks[tr.spin] for m in p.mo_indices]
     w = d_weights(calc.mol, c, orthogonal_projector(calc.mol))

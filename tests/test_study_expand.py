@@ -94,7 +94,7 @@ def test_duplicate_values_are_one_task(tmp_path):
 
 
 def test_dry_run_shows_plan_and_writes_nothing(tmp_path):
-    from dsplit.cli_archive import study_cmd
+    from dsplit.cli.archive import study_cmd
 
     arch = tmp_path / "arch"
     demo = ROOT / "inputs" / "study-ti-colour-screen.toml"
@@ -109,7 +109,7 @@ def test_dry_run_shows_plan_and_writes_nothing(tmp_path):
 
 
 def test_unknown_study_file_and_resume_without_record(tmp_path):
-    from dsplit.cli_archive import study_cmd
+    from dsplit.cli.archive import study_cmd
 
     r = CliRunner().invoke(study_cmd, [str(tmp_path / "none.toml"), "--archive", str(tmp_path / "a")])
     assert r.exit_code == 2

@@ -20,7 +20,7 @@ from click.testing import CliRunner
 from dsplit.archive import index
 from dsplit.archive.paths import TMP_RE, run_folders
 from dsplit.archive.verify import verify_archive
-from dsplit.cli_archive import study_cmd
+from dsplit.cli.archive import study_cmd
 
 STUDY = """
 name = "{name}"
@@ -39,7 +39,7 @@ solvent = "none"
 bond_lengths = {lengths}
 """
 
-RUN_STUDY = "import sys; from dsplit.cli_archive import study_cmd; study_cmd.main(sys.argv[1:], prog_name='study')"
+RUN_STUDY = "import sys; from dsplit.cli.archive import study_cmd; study_cmd.main(sys.argv[1:], prog_name='study')"
 
 
 def write_study(tmp_path: Path, name: str, lengths: list[float], basis: str = "sto-3g") -> Path:
@@ -99,17 +99,18 @@ def test_killed_study_resumes_without_redoing(tmp_path):
 
 def test_dask_local_cluster_two_tasks(tmp_path):
     pytest.importorskip("distributed", reason="optional extra 'dask' (dask, distributed) is not installed")
+    from dsplit.api.compute import compute_archived
     from dsplit.study.api import plan_study, run_study
 
     root = tmp_path / "arch"
     root.mkdir()
     plan = plan_study(write_study(tmp_path, "dask", [1.85, 1.89]), root)
-    out = run_study(plan, root, workers=2, threads=1, executor="dask", quiet=True)
+    out = run_study(plan, root, compute=compute_archived, workers=2, threads=1, executor="dask", quiet=True)
     assert out.exit_code == 0
     assert sorted(o["state"] for o in out.outcomes) == ["computed", "computed"]
     assert {p.name for p in _finished(root)} == {t.run_id for t in plan.tasks}
     assert len(index.select(root)) == 2
-    again = run_study(plan, root, executor="dask", quiet=True)  # everything cached: no task is sent
+    again = run_study(plan, root, compute=compute_archived, executor="dask", quiet=True)  # everything cached: no task is sent
     assert again.outcomes == [] and sorted(again.cached_before) == sorted(t.run_id for t in plan.tasks)
 
 

@@ -90,6 +90,15 @@ class Complex:
         tail = "" if c == 0 else (f"{abs(c)}" if abs(c) > 1 else "") + ("-" if c < 0 else "+")
         return f"[{self.metal.symbol}{''.join(parts)}]{tail}"
 
+    def mole_atom_indices(self, complex_indices: list[int]) -> list[int]:
+        """Indices of these atoms in the quantum-chemistry molecule, which leaves out point donors ('X')."""
+        mapping, k = {}, 0
+        for i, s in enumerate(self.atoms.get_chemical_symbols()):
+            if s != "X":
+                mapping[i] = k
+                k += 1
+        return [mapping[i] for i in complex_indices]
+
     def metal_ligand_distances(self) -> dict[str, float]:
         out: dict[str, float] = {}
         for pl in self.ligands:

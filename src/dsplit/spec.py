@@ -18,8 +18,10 @@ from __future__ import annotations
 
 import hashlib
 import json
+import math
 import re
 import sys
+import unicodedata
 from dataclasses import dataclass, field, asdict
 from pathlib import Path
 from typing import Any
@@ -31,7 +33,7 @@ else:  # pragma: no cover
 
 from dsplit.errors import InputError
 from dsplit.geometry.build import ComplexRequest
-from dsplit.models.units import nm_to_cm1
+from dsplit.units import nm_to_cm1
 
 SCHEMA = "dsplit.spec/1"
 
@@ -101,10 +103,23 @@ def _typename(t) -> str:
     return names[t]
 
 
+def check_finite(value: Any, field: str) -> None:
+    """InputError for NaN or ±inf anywhere in a value (TOML has nan and inf literals)."""
+    if isinstance(value, float) and not math.isfinite(value):
+        raise InputError(field, f"{value} is not a finite number; give an ordinary number")
+    if isinstance(value, dict):
+        for k, v in value.items():
+            check_finite(v, f"{field}.{k}")
+    elif isinstance(value, (list, tuple)):
+        for v in value:
+            check_finite(v, field)
+
+
 def _check_table(table: Any, allowed: dict[str, Any], prefix: str) -> dict[str, Any]:
     if not isinstance(table, dict):
         raise InputError(prefix, "must be a TOML table")
     for key, value in table.items():
+        check_finite(value, f"{prefix}.{key}")
         if key not in allowed:
             raise InputError(f"{prefix}.{key}", f"unknown key; allowed in [{prefix}]: {', '.join(allowed)}")
         want = allowed[key]
@@ -124,7 +139,7 @@ def spec_from_dict(data: dict[str, Any], default_name: str = "complex") -> Spec:
     """Validate a parsed TOML document and build a Spec (InputError on any bad field)."""
     for key in data:
         if key not in _TOP_KEYS:
-            raise InputError(key, f"unknown top-level key; allowed: name, [complex], [method], [experiment]")
+            raise InputError(key, "unknown top-level key; allowed: name, [complex], [method], [experiment]")
     name = data.get("name", default_name)
     if not isinstance(name, str) or not slug_ok(name):
         raise InputError("name", f"{name!r} is not a valid name; use letters, digits, '.', '_' or '-' "
@@ -189,8 +204,15 @@ def parse_toml_text(text: str, source: str = "spec") -> dict[str, Any]:
         raise InputError(source, f"malformed TOML ({exc}); fix the syntax") from None
 
 
-def load_spec(path: str | Path) -> Spec:
-    """Read and validate a spec file."""
+def name_from_stem(stem: str) -> str:
+    """A valid run name made from a file name (accents dropped, other characters to '-')."""
+    text = unicodedata.normalize("NFKD", stem).encode("ascii", "ignore").decode()
+    text = re.sub(r"[^A-Za-z0-9._-]+", "-", text).replace("..", ".")
+    text = re.sub(r"^[^A-Za-z0-9]+", "", text)[:80].rstrip("-.")
+    return text or "complex"
+
+
+def _read_spec_file(path: str | Path) -> dict[str, Any]:
     p = Path(path)
     if not p.is_file():
         raise InputError("SPEC", f"no such file '{p}'; give the path of a .toml spec")
@@ -198,5 +220,29 @@ def load_spec(path: str | Path) -> Spec:
         text = p.read_text(encoding="utf-8")
     except UnicodeDecodeError:
         raise InputError("SPEC", f"'{p}' is not UTF-8 text; save the spec as UTF-8 TOML") from None
-    default = re.sub(r"[^A-Za-z0-9._-]", "-", p.stem) or "complex"
-    return spec_from_dict(parse_toml_text(text, str(p)), default_name=default)
+    except OSError as exc:
+        raise InputError("SPEC", f"cannot read '{p}' ({exc.strerror or exc})") from None
+    return parse_toml_text(text, str(p))
+
+
+def load_spec(path: str | Path | None = None, complex_overrides: dict[str, Any] | None = None,
+              method_overrides: dict[str, Any] | None = None) -> Spec:
+    """Read a spec file once (or none: flags only), apply flag overrides, validate.
+
+    Overrides with value None are ignored; a run with no file needs at least the
+    complex flags.  Without a ``name`` the file's stem, made valid, names the run.
+    """
+    data: dict[str, Any] = _read_spec_file(path) if path is not None else {"complex": {}}
+    complex_over = {k: v for k, v in (complex_overrides or {}).items() if v is not None}
+    method_over = {k: v for k, v in (method_overrides or {}).items() if v is not None}
+    if complex_over:
+        cx = data.setdefault("complex", {})
+        if isinstance(cx, dict):
+            cx.update(complex_over)
+    if method_over:
+        md = data.setdefault("method", {})
+        if isinstance(md, dict):
+            md.update(method_over)
+    if path is None and not data.get("complex"):
+        raise InputError("SPEC", "give a spec file or --metal/--geometry/--ligands flags")
+    return spec_from_dict(data, default_name=name_from_stem(Path(path).stem) if path is not None else "complex")

@@ -14,8 +14,7 @@ import numpy as np
 
 from dsplit.analysis.composition import Composition, orbital_composition
 from dsplit.analysis.manifold import Manifold, ligand_field_manifold
-from dsplit.qc.engine import Calculation, _channels
-from dsplit.qc.targeting import orbital_symmetries
+from dsplit.qc.records import Calculation
 
 
 @dataclass
@@ -56,21 +55,11 @@ def _symmetries(calc: Calculation):
     from dsplit.symmetry import mol_donor_symmetry, mol_symmetry
 
     mol = calc.mol
+    cx = calc.complex
     exact = mol_symmetry(mol)
     donors = [pl.atom_indices[0] for pl in calc.complex.ligands if pl.ligand.donor != "X"]
-    donor = mol_donor_symmetry(mol, 0, donors=_mol_indices(calc, donors)) if donors else exact
+    donor = mol_donor_symmetry(mol, 0, donors=cx.mole_atom_indices(donors)) if donors else exact
     return exact, donor
-
-
-def _mol_indices(calc: Calculation, complex_indices: list[int]) -> list[int]:
-    """Map atom indices of the Complex onto the Mole (point donors are not Mole atoms)."""
-    symbols = calc.complex.atoms.get_chemical_symbols()
-    mapping, k = {}, 0
-    for i, s in enumerate(symbols):
-        if s != "X":
-            mapping[i] = k
-            k += 1
-    return [mapping[i] for i in complex_indices]
 
 
 DENSITY_SYMMETRY_TOL = 1e-5  # max |R D Rᵀ − D| for an operation to count as a symmetry of the density
@@ -128,11 +117,11 @@ def build_orbital_table(calc: Calculation, composition_method: str = "iao") -> O
                          f"donor-set group {donor.name}")
     ovlp = mol.intor_symmetric("int1e_ovlp")
     owner = [cx.ligand_of_atom[i] for i, s in enumerate(cx.atoms.get_chemical_symbols()) if s != "X"]
-    chans = _channels(calc.mf)
+    chans = calc.channels
     names = ["restricted"] if len(chans) == 1 else ["alpha", "beta"]
     tables: list[ChannelTable] = []
     timings = {"labels": 0.0, "composition": 0.0}
-    for name, (c, occ, e) in zip(names, chans):
+    for k_ch, (name, (c, occ, e)) in enumerate(zip(names, chans)):
         t1 = time.perf_counter()
         lab = label_orbitals(mol, c, e, exact, ovlp=ovlp)
         set_of = [0] * len(e)
@@ -144,7 +133,7 @@ def build_orbital_table(calc: Calculation, composition_method: str = "iao") -> O
             for dl in donor_set_labels(mol, lab, c, 0, donor, ovlp=ovlp):
                 for i in dl.indices:
                     donor_irreps[i] = dl.label
-        abelian = orbital_symmetries(calc.mf, c)
+        abelian = calc.abelian_labels(k_ch)
         disagreements = []
         if mol.symmetry and abelian is not None:
             try:

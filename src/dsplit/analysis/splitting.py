@@ -24,21 +24,21 @@ A2 is pure T1 — correlation tables, e.g. Atkins, Child & Phillips, Tables for 
 while → |xz yz z²| is A2g, a ⁴T1g component.  When the MOs mix the frame's d orbitals
 (lower symmetry) or no single move reaches the upper state, the highest MO of the lower set
 → the lowest of the upper set instead.  An unrestricted ΔSCF that fails is redone
-restricted-open (see ``state_estimator``).
+restricted-open (``dsplit.qc.excited.run_delta_scf``).
+
+This module is pure: the calculations (restricted-open ground, ΔSCF, TDA) are run by
+``dsplit.qc.excited`` and handed in as records; here the transition is chosen and the
+records are turned into estimates.
 """
 
 from __future__ import annotations
 
-import time
-from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
-from dsplit.models.units import cm1_to_nm, ev_to_cm1, hartree_to_cm1, hartree_to_ev, hartree_to_kjmol
-from dsplit.qc.dcharacter import d_weights, orthogonal_projector
-from dsplit.qc.engine import Calculation, _channels, run_excited
-from dsplit.qc.targeting import orbital_symmetries
+from dsplit.qc.records import Calculation, DeltaScfRecord, TdaRecord, Transition
+from dsplit.units import cm1_to_nm, hartree_to_cm1, hartree_to_ev, hartree_to_kjmol
 
 #: frame d orbitals as (B1-like, B2-like) bits of D4h ⊂ Oh and D2d ⊂ Td: A1 00, B1 10, B2 01, A2 11
 FRAME_BITS = {"z2": (0, 0), "x2-y2": (1, 0), "xy": (0, 1)}
@@ -56,12 +56,6 @@ UPPER_STATE = {("octahedral", "high"): {1: "E", 2: "T2", 3: "T2", 4: "T2", 6: "E
 PURE_SHARE = 0.75
 ROOT_DEGENERACY_EV = 0.02  # roots closer than this count as one band
 D_D_THRESHOLD = 0.5  # weight of manifold→manifold pairs in a root for it to count as d–d
-#: Davidson tolerance of the TDA roots (PySCF's default is 1e-5): measured on [TiF6]3− B3LYP/3-21G PCM,
-#: the same three roots to 1e-4 eV in 0.53× the time
-TDA_CONV_TOL = 1e-4
-#: energy tolerance of the restricted-open SCF behind the orbital estimator: its orbital gradient
-#: (PySCF: √tol ≈ 3e-4 Eh) bounds the orbital-energy error to about 0.01 eV, below what that estimator means
-RESTRICTED_OPEN_CONV_TOL = 1e-7
 
 
 def energy_block(delta_hartree: float | None) -> dict[str, float | None]:
@@ -69,16 +63,6 @@ def energy_block(delta_hartree: float | None) -> dict[str, float | None]:
         return {"delta_eV": None, "delta_cm1": None, "delta_kJmol": None}
     return {"delta_eV": hartree_to_ev(delta_hartree), "delta_cm1": hartree_to_cm1(delta_hartree),
             "delta_kJmol": hartree_to_kjmol(delta_hartree)}
-
-
-@dataclass
-class Transition:
-    spin: int  # 0 α, 1 β
-    lower: int  # index of the lower d set
-    upper: int
-    hole: int  # MO index
-    particle: int
-    component: str | None = None  # e.g. "B2g ⊂ T2g (D4h)" when a pure component was chosen
 
 
 def determinant_bits(alpha: set[str], beta: set[str]) -> tuple[int, int] | None:
@@ -116,7 +100,7 @@ def _occupied_frames(calc: Calculation, ch: int, limit: float, share: np.ndarray
     orbitals (z² and x²−y² share one block of D2h and D2) do not matter there; a partly
     filled set needs each of its MOs to be one frame orbital.
     """
-    occ = _channels(calc.mf)[ch][1]
+    occ = calc.channels[ch][1]
     out: set[str] = set()
     for dset, pick in zip(calc.complex.d_sets, calc.picks[ch]):
         filled = [m for m in pick.mo_indices if occ[m] > limit]
@@ -136,13 +120,12 @@ def _pure_component_pair(calc: Calculation, spin: int, holes: list[int], parts: 
 
     Only hole and particle MOs that are each one frame d orbital are tried.
     """
-    chans = _channels(calc.mf)
-    projector = orthogonal_projector(calc.mol)
+    chans = calc.channels
     occupied: list[set[str]] = []
     shares = []
     for s_ in (0, 1):
         ch = 0 if len(chans) == 1 else s_
-        w = d_weights(calc.mol, chans[ch][0], projector)
+        w = calc.d_weights(ch)
         share = w / np.maximum(w.sum(axis=0), 1e-12)
         limit = (0.5 if s_ == 0 else 1.5) if len(chans) == 1 else 0.5
         frames = _occupied_frames(calc, ch, limit, share)
@@ -178,28 +161,17 @@ def _spin_kind(calc: Calculation) -> str:
     return "high" if calc.multiplicity == calc.complex.counts.multiplicities[-1] else "low"
 
 
-def align_manifold_to_frame(calc: Calculation) -> None:
-    """Rotate each degenerate d level's MOs onto the frame d orbitals, in place (see dcharacter)."""
-    from dsplit.qc.dcharacter import align_degenerate_to_frame
-
-    projector = orthogonal_projector(calc.mol)
-    full_occ = np.asarray(calc.mf.mo_occ)
-    for ch, (c, occ, e) in enumerate(_channels(calc.mf)):
-        align_degenerate_to_frame(calc.mol, c, e, occ if full_occ.ndim == 2 else full_occ, calc.picks[ch],
-                                  calc.complex.d_sets, projector, orbital_symmetries(calc.mf, c))
-
-
 def choose_transition(calc: Calculation) -> Transition | None:
     """The first d–d excitation in one spin: highest filled lower set → lowest set with room.
 
-    Degenerate d MOs are first aligned with the frame orbitals (:func:`align_manifold_to_frame`;
-    density and energies unchanged), so the pure-component rule sees z² and x²−y², not a mix.
+    The calculation stage has aligned degenerate d MOs with the frame orbitals
+    (``qc.dcharacter.align_manifold_to_frame``), so the pure-component rule sees z² and
+    x²−y², not a mix.
     """
-    align_manifold_to_frame(calc)
     cx = calc.complex
     sets = cx.d_sets
     per_spin = [calc.target_alpha, calc.target_beta]
-    chans = _channels(calc.mf)
+    chans = calc.channels
     for spin in (0, 1):
         counts = per_spin[spin]
         for upper in range(len(sets)):
@@ -241,87 +213,40 @@ def hole_under_filled_ligands(calc: Calculation, tr: Transition) -> list[int]:
     cis-[CrCl2(NH3)4]+, B3LYP/def2-SVP: α t2g at −12.5 eV under three same-block Cl 3p levels up
     to −9.9 eV; none of the other demo complexes has one).
     """
-    chans = _channels(calc.mf)
+    chans = calc.channels
     ch = 0 if len(chans) == 1 else tr.spin
     c, occ, e = chans[ch]
     occ_spin = occ / 2.0 if len(chans) == 1 else occ
     manifold = {m for pick in calc.picks[ch] for m in pick.mo_indices}
-    syms = orbital_symmetries(calc.mf, c)
+    syms = calc.abelian_labels(ch)
     return [m for m in range(len(e)) if occ_spin[m] > 0.5 and m not in manifold and e[m] > e[tr.hole]
             and (syms is None or syms[m] == syms[tr.hole])]
 
 
-def _excited_occupations(calc: Calculation, tr: Transition, triplet_flip: bool = False):
-    """Per-spin occupation vectors (α, β) over the ground MOs with the electron moved."""
-    chans = _channels(calc.mf)
-    if len(chans) == 1:
-        occ_a = chans[0][1] / 2.0
-        occ_b = occ_a.copy()
-    else:
-        occ_a, occ_b = chans[0][1].copy(), chans[1][1].copy()
-    occ = [occ_a.copy(), occ_b.copy()]
-    if triplet_flip:  # closed shell → M_S = 1 triplet: β hole, α particle
-        occ[1][tr.hole] = 0.0
-        occ[0][tr.particle] = 1.0
-    else:
-        occ[tr.spin][tr.hole] = 0.0
-        occ[tr.spin][tr.particle] = 1.0
-    return occ
-
-
-def state_estimator(calc: Calculation, tr: Transition, folder, progress=None,
-                    restricted_open: tuple[Calculation | None, str] | None = None) -> dict[str, Any]:
-    """ΔSCF for the chosen transition (see module docstring).
-
-    When the unrestricted excited SCF fails and a restricted-open ground state is given,
-    the ΔSCF is redone restricted-open: E_RO(excited) − E_RO(ground).  Why: with UKS the
-    emptied α d orbital can lie below filled ligand levels (measured on cis-[CrCl2(NH3)4]+,
-    B3LYP/def2-SVP: α t2g at −0.46 Eh under Cl 3p at −0.36 Eh), and the maximum-overlap
-    occupations then flip between hole and ligand orbitals; in ROKS the singly occupied d
-    levels lie above the ligand pairs (−0.32 against −0.36 Eh) and the excited SCF converges.
-    Such a buried hole (:func:`hole_under_filled_ligands`) is noted with the result: even a
-    converged unrestricted ΔSCF then depends on the route (same complex, B3LYP/STO-3G, both
-    verified: unrestricted 2.55 eV, restricted-open 1.77 eV), so neither goes first by rule.
-    """
-    t0 = time.perf_counter()
-    ta, tb = list(calc.target_alpha), list(calc.target_beta)
-    exc = [ta, tb]
-    exc[tr.spin][tr.lower] -= 1
-    exc[tr.spin][tr.upper] += 1
-    closed = len(_channels(calc.mf)) == 1 and calc.multiplicity == 1
-    run = run_excited(calc, _excited_occupations(calc, tr), exc[0], exc[1], out_dir=folder, tag="state-mixed"
-                      if closed else "state", progress=progress)
-    ground, method, notes = calc, run.targeting, run.notes + run.warnings
-    buried = hole_under_filled_ligands(calc, tr) if calc.unrestricted and not closed else []
+def state_estimate(calc: Calculation, record: DeltaScfRecord) -> dict[str, Any]:
+    """The state estimator's numbers from its ΔSCF record (closed shells: spin-purified singlet)."""
+    tr, run, ground = record.transition, record.excited, record.ground
+    notes = list(record.notes)
+    buried = hole_under_filled_ligands(calc, tr) if calc.unrestricted and not record.closed_shell else []
     if buried:
-        e = _channels(calc.mf)[tr.spin][2]  # unrestricted: one channel per spin
+        e = calc.channels[tr.spin][2]  # unrestricted: one channel per spin
         notes.append(f"caution: the unrestricted hole lies under {len(buried)} filled same-block ligand "
                      f"orbital(s) (up to {hartree_to_ev(max(e[m] for m in buried) - e[tr.hole]):.2f} eV above it); "
                      "the excited SCF can mix hole and ligand orbitals, and its value depends on the route")
-    if not run.ok and not closed and calc.unrestricted and restricted_open is not None and restricted_open[0]:
-        ro = restricted_open[0]
-        ro_run, ro_notes = _restricted_open_state(ro, tr, exc, folder, progress)
-        notes.append(f"unrestricted ΔSCF not verified; redone restricted-open ({restricted_open[1]}): "
-                     f"Δ = E(excited) − E(ground), both restricted-open"
-                     + ("" if ro_run is not None else " — not verified"))
-        notes += ro_notes
-        if ro_run is not None:
-            run, ground, method = ro_run, ro, f"{ro_run.targeting} (restricted open)"
     labels = [s.label for s in calc.complex.d_sets]
-    out: dict[str, Any] = {"excited_configuration": " ".join(f"{l}^{a + b}" for l, a, b in zip(labels, *exc)),
+    exc_a, exc_b = list(calc.target_alpha), list(calc.target_beta)
+    moved = [exc_a, exc_b]
+    moved[tr.spin][tr.lower] -= 1
+    moved[tr.spin][tr.upper] += 1
+    out: dict[str, Any] = {"excited_configuration": " ".join(f"{lab}^{a + b}" for lab, a, b in zip(labels, *moved)),
                            "transition": f"{labels[tr.lower]} → {labels[tr.upper]} ({'αβ'[tr.spin]})",
-                           "component": tr.component,
-                           "method": method, "energy_ground_hartree": ground.energy_hartree,
+                           "component": tr.component, "method": record.route,
+                           "energy_ground_hartree": ground.energy_hartree,
                            "converged": run.converged, "configuration_verified": run.configuration_verified,
                            "notes": notes}
-    ok = run.ok
-    delta = run.energy_hartree - ground.energy_hartree if ok else None
-    if closed and ok:
-        ta3, tb3 = list(calc.target_alpha), list(calc.target_beta)
-        tb3[tr.lower] -= 1
-        ta3[tr.upper] += 1
-        trip = run_excited(calc, _excited_occupations(calc, tr, triplet_flip=True), ta3, tb3, multiplicity=3,
-                           out_dir=folder, tag="state-triplet", progress=progress)
+    delta = run.energy_hartree - ground.energy_hartree if run.ok else None
+    trip = record.triplet
+    if trip is not None:
         out["energy_mixed_hartree"] = run.energy_hartree
         out["triplet"] = {"converged": trip.converged, "configuration_verified": trip.configuration_verified,
                           **energy_block(trip.energy_hartree - calc.energy_hartree if trip.ok else None)}
@@ -331,34 +256,23 @@ def state_estimator(calc: Calculation, tr: Transition, folder, progress=None,
         else:
             delta = None
             out["notes"].append("triplet ΔSCF not verified: singlet not purified, no value")
-    out["energy_excited_hartree"] = run.energy_hartree if ok else None
+    out["energy_excited_hartree"] = run.energy_hartree if run.ok else None
     out.update(energy_block(delta))
-    out["seconds"] = time.perf_counter() - t0
+    out["seconds"] = record.seconds
     return out
 
 
-def _restricted_open_state(ro: Calculation, tr: Transition, exc: list[list[int]], folder,
-                           progress=None) -> tuple[Calculation | None, list[str]]:
-    """(verified restricted-open excited SCF or None, notes) for the same transition as ``tr``."""
-    ro_tr = choose_transition(ro)
-    if ro_tr is None or (ro_tr.spin, ro_tr.lower, ro_tr.upper) != (tr.spin, tr.lower, tr.upper):
-        return None, ["restricted-open ground has no matching transition"]
-    run = run_excited(ro, _excited_occupations(ro, ro_tr), exc[0], exc[1], out_dir=folder,
-                      tag="state-restricted-open", progress=progress)
-    return (run if run.ok else None), run.notes + run.warnings
-
-
-def _root_analysis(td, calc: Calculation, table, k: int,
+def _root_analysis(xs, calc: Calculation, table,
                    tr: Transition | None) -> tuple[float, float, list[tuple[int, int, int, float]]]:
-    """(weight of manifold→manifold pairs, weight of lower-set→upper-set pairs, dominant pairs) of root k.
+    """(weight of manifold→manifold pairs, weight of lower-set→upper-set pairs, dominant pairs) of a root.
+
+    ``xs``: the root's X amplitudes per spin (occupied × virtual), as in :class:`TdaRecord`.
 
     The band weight counts only pairs from the transition's lower d set to its upper one
     (t2g → eg in Oh): excitations inside a set split by a lower-symmetry density (t2g → t2g
     of an open t2g shell) are d–d too, but they are not the ligand-field band.
     """
-    x = td.xy[k][0]
-    xs = x if isinstance(x, (tuple, list)) else (x,)
-    chans = _channels(calc.mf)
+    chans = calc.channels
     total, dd, band, pairs = 0.0, 0.0, 0.0, []
     for spin, xm in enumerate(xs):
         xm = np.asarray(xm)
@@ -387,32 +301,52 @@ def _root_analysis(td, calc: Calculation, table, k: int,
 
 
 #: roots asked for, in turn, until one belongs to the ligand-field band: charge-transfer roots of the same
-#: block can lie below it (cis-[CrCl2(NH3)4]+: Cl → Cr roots under the t2g → eg ones).  Two first: each
-#: Davidson vector costs a response build ([TiF6]3− B3LYP/def2-SVP: 18.0 s for 2 roots, 26.4 s for 3,
-#: the same band root, second of the two)
+#: block can lie below it (cis-[CrCl2(NH3)4]+: Cl → Cr roots under the t2g → eg ones); two first, since each
+#: Davidson vector costs a response build (benchmarks/report_cost.py)
 ROOT_COUNTS = (2, 6, 12)
 
 
-def excitation_estimator(calc: Calculation, table, tr: Transition | None,
-                         root_counts: tuple[int, ...] = ROOT_COUNTS) -> dict[str, Any]:
-    """Lowest TDA (CIS for HF) roots in the d–d symmetry block; d–d roots kept.
+def tda_roots(record: TdaRecord, calc: Calculation, table, tr: Transition | None) -> list[dict[str, Any]]:
+    """The converged roots of a TDA record, each with its d–d and band weights and leading pairs."""
+    roots = []
+    for k, e in enumerate(record.energies_hartree):
+        if not record.converged[k]:
+            continue
+        frac, band_frac, pairs = _root_analysis(record.amplitudes[k], calc, table, tr)
+        labs = []
+        for spin, i, a, w in pairs[:2]:
+            ch = table.channels[min(spin, len(table.channels) - 1)]
+            hl = ch.donor_irreps.get(i, ch.irreps[i])
+            pl = ch.donor_irreps.get(a, ch.irreps[a])
+            labs.append(f"{hl}→{pl}{'αβ'[spin] if len(table.channels) == 2 else ''} ({w:.2f})")
+        e_cm1 = hartree_to_cm1(float(e))
+        f_osc = record.oscillator_strengths[k]
+        roots.append({"energy_eV": hartree_to_ev(float(e)), "energy_cm1": e_cm1, "wavelength_nm": cm1_to_nm(e_cm1),
+                      "oscillator_strength": f_osc, "symmetry": record.symmetry_block or "",
+                      "d_d": frac >= D_D_THRESHOLD, "d_d_weight": frac, "band_weight": band_frac,
+                      "ligand_field_band": band_frac >= D_D_THRESHOLD, "pairs": labs})
+    return roots
 
-    Asks for ``root_counts[0]`` roots and for the next count only when none of them is a
-    ligand-field band root, so a band above charge-transfer roots is still found.
+
+def has_band_root(record: TdaRecord, calc: Calculation, table, tr: Transition | None) -> bool:
+    """Whether the record holds a root of the lower → upper d-set band (ask for more roots if not)."""
+    return record.error is None and any(r["ligand_field_band"] for r in tda_roots(record, calc, table, tr))
+
+
+def excitation_estimate(records: list[TdaRecord], calc: Calculation, table, tr: Transition | None) -> dict[str, Any]:
+    """Lowest lower → upper d-set band root of the last TDA record (CIS for HF); d–d roots listed.
+
+    ``records``: the TDA requests in the order they ran (more roots each time no band root
+    was among them, :data:`ROOT_COUNTS`).
     """
-    t0 = time.perf_counter()
     notes: list[str] = []
-    roots: list[dict[str, Any]] = []
-    for n in root_counts:
-        run = _tda_roots(calc, table, tr, n)
-        if "error" in run:
-            return {**energy_block(None), "notes": notes + [run["error"]]}
-        roots, run_notes = run["roots"], run["notes"]
-        if any(r["ligand_field_band"] for r in roots) or tr is None:
-            break
-    notes += run_notes
-    if len(roots) > root_counts[0]:
-        notes.append(f"no band root among the first {root_counts[0]}; {len(roots)} roots asked")
+    last = records[-1]
+    if last.error is not None:
+        return {**energy_block(None), "notes": [last.error]}
+    roots = tda_roots(last, calc, table, tr)
+    notes += list(last.notes)
+    if len(records) > 1:
+        notes.append(f"no band root among the first {records[0].n_roots}; {last.n_roots} roots asked")
     dd = [r for r in roots if r["ligand_field_band"]]
     if any(r["d_d"] and not r["ligand_field_band"] for r in roots):
         notes.append("d–d roots inside one d set (a set split by the state's lower symmetry) are listed "
@@ -424,59 +358,8 @@ def excitation_estimator(calc: Calculation, table, tr: Transition | None,
         first = float(np.mean(band)) / hartree_to_ev(1.0)
     else:
         notes.append("no root of the lower → upper d-set band among the roots computed: no value")
-    return {**energy_block(first), "method": "CIS" if calc.setup.is_hf else "TDA", "roots": roots, "notes": notes,
-            "seconds": time.perf_counter() - t0}
-
-
-def _tda_roots(calc: Calculation, table, tr: Transition | None, n_roots: int) -> dict[str, Any]:
-    """{'roots': [...], 'notes': [...]} of ``n_roots`` TDA roots, or {'error': why}."""
-    mf = calc.mf
-    notes: list[str] = []
-    try:
-        td = mf.TDA()
-    except Exception as exc:
-        return {"error": f"TDA not available for this reference ({exc})"}
-    td.nstates = n_roots
-    td.conv_tol = TDA_CONV_TOL
-    td.verbose = 0
-    if tr is not None and calc.mol.symmetry:
-        c = _channels(mf)[0 if len(_channels(mf)) == 1 else tr.spin][0]
-        syms = orbital_symmetries(mf, c)
-        if syms is not None:
-            from pyscf import symm
-
-            hole_ir = symm.irrep_name2id(calc.mol.groupname, syms[tr.hole])
-            part_ir = symm.irrep_name2id(calc.mol.groupname, syms[tr.particle])
-            td.wfnsym = symm.irrep_id2name(calc.mol.groupname, hole_ir ^ part_ir)
-            notes.append(f"roots asked in the {td.wfnsym} block of {calc.mol.groupname} (the d–d transition's)")
-    try:
-        td.kernel()
-    except Exception as exc:  # e.g. a solvent model without a response kernel
-        return {"error": f"TDA failed ({type(exc).__name__}: {exc})"}
-    if not all(np.atleast_1d(td.converged)):
-        notes.append("not every TDA root converged; unconverged roots dropped")
-    try:
-        f_osc = td.oscillator_strength()
-    except Exception:
-        f_osc = [None] * len(td.e)
-    roots = []
-    for k, e in enumerate(td.e):
-        if not np.atleast_1d(td.converged)[k]:
-            continue
-        frac, band_frac, pairs = _root_analysis(td, calc, table, k, tr)
-        labs = []
-        for spin, i, a, w in pairs[:2]:
-            ch = table.channels[min(spin, len(table.channels) - 1)]
-            hl = ch.donor_irreps.get(i, ch.irreps[i])
-            pl = ch.donor_irreps.get(a, ch.irreps[a])
-            labs.append(f"{hl}→{pl}{'αβ'[spin] if len(table.channels) == 2 else ''} ({w:.2f})")
-        e_cm1 = hartree_to_cm1(float(e))
-        roots.append({"energy_eV": hartree_to_ev(float(e)), "energy_cm1": e_cm1, "wavelength_nm": cm1_to_nm(e_cm1),
-                      "oscillator_strength": None if f_osc[k] is None else float(f_osc[k]),
-                      "symmetry": str(getattr(td, "wfnsym", None) or ""), "d_d": frac >= D_D_THRESHOLD,
-                      "d_d_weight": frac, "band_weight": band_frac, "ligand_field_band": band_frac >= D_D_THRESHOLD,
-                      "pairs": labs})
-    return {"roots": roots, "notes": notes}
+    return {**energy_block(first), "method": last.method, "roots": roots, "notes": notes,
+            "seconds": sum(r.seconds for r in records)}
 
 
 def _set_gap(sets, lower_label: str, upper_label: str) -> float | None:
@@ -487,14 +370,13 @@ def _set_gap(sets, lower_label: str, upper_label: str) -> float | None:
     return (np.mean([s.energy for s in hi]) - np.mean([s.energy for s in lo]))
 
 
-def orbital_estimator(calc: Calculation, table, tr: Transition | None, folder, progress=None,
-                      restricted_open: tuple[Calculation | None, str] | None = None) -> dict[str, Any]:
+def orbital_estimate(calc: Calculation, table, tr: Transition | None,
+                     restricted_open: tuple[Calculation | None, str] | None = None) -> dict[str, Any]:
     """Orbital-energy gaps of the manifold (ROKS/ROHF for open shells; α, β beside).
 
-    ``restricted_open``: the (calculation, note) of :func:`restricted_open_ground` when
-    already run; computed here otherwise.
+    ``restricted_open``: the (calculation, note) of ``qc.excited.restricted_open_ground``
+    (open shells only).
     """
-    t0 = time.perf_counter()
     labels = [s.label for s in calc.complex.d_sets]
     if tr is not None:
         lower, upper = labels[tr.lower], labels[tr.upper]
@@ -511,34 +393,9 @@ def orbital_estimator(calc: Calculation, table, tr: Transition | None, folder, p
         return out
     out["warning"] = ("open shell: orbital-energy gaps are not the splitting (α and β gaps differ; occupied and "
                       "empty levels feel different exchange); use the state estimator")
-    ro, why = restricted_open if restricted_open is not None else restricted_open_ground(calc, folder, progress)
+    ro, why = restricted_open if restricted_open is not None else (None, "not computed")
     out.update(_restricted_open_gap(ro, why, lower, upper))
-    out["seconds"] = time.perf_counter() - t0
     return out
-
-
-def restricted_open_ground(calc: Calculation, folder, progress=None) -> tuple[Calculation | None, str]:
-    """ROKS/ROHF ground state converged from the UKS/UHF density: (calculation, type name) or (None, why)."""
-    from dataclasses import replace
-
-    from dsplit.qc.engine import check_configuration
-    from dsplit.qc.ladder import run_ladder
-    from dsplit.qc.setup import make_mean_field
-
-    mf = make_mean_field(calc.mol, calc.complex, calc.setup, restricted=True, template=calc.mf)
-    mf.conv_tol = RESTRICTED_OPEN_CONV_TOL
-    mf.chkfile = str(folder / "restricted-open.chk")
-    mf, rungs = run_ladder(mf, calc.mf.make_rdm1(), progress, rungs=("diis", "level-shift"))
-    if not mf.converged:
-        return None, "did not converge: no value"
-    ok, picks, found = check_configuration(mf, calc.complex, orthogonal_projector(calc.mol), calc.target_alpha,
-                                           calc.target_beta)
-    if not ok:
-        return None, f"landed in {found}: no value"
-    ro = replace(calc, mf=mf, picks=picks, rungs=rungs, converged=True, configuration_verified=True,
-                 configuration_found=found, stability_lowest=None, stability_followed=0, targeting=None,
-                 notes=[], warnings=[])
-    return ro, type(mf).__name__
 
 
 def _restricted_open_gap(ro: Calculation | None, why: str, lower: str, upper: str) -> dict[str, Any]:
@@ -550,53 +407,27 @@ def _restricted_open_gap(ro: Calculation | None, why: str, lower: str, upper: st
     if lower not in by_label or upper not in by_label:
         return {**energy_block(None), "restricted_open": "sets not found"}
     gap = float(np.mean(e[by_label[upper]]) - np.mean(e[by_label[lower]]))
-    sets = [{"label": p.label, "degeneracy": len(p.mo_indices), "energy_eV": hartree_to_ev(float(np.mean(e[p.mo_indices])))}
-            for p in ro.picks[0]]
+    sets = [{"label": p.label, "degeneracy": len(p.mo_indices),
+             "energy_eV": hartree_to_ev(float(np.mean(e[p.mo_indices])))} for p in ro.picks[0]]
     return {**energy_block(gap), "restricted_open": why, "restricted_open_sets": sets}
 
 
-def estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=None) -> dict[str, Any]:
-    """All three estimators, the ligand-field comparison and the fragment levels (result.json keys)."""
-    from dsplit.qc.engine import quiet_pyscf
-
-    with quiet_pyscf():
-        return _estimate_splitting(spec, cx, calc, table, folder, progress)
-
-
-def _estimate_splitting(spec, cx, calc: Calculation, table, folder, progress=None) -> dict[str, Any]:
-    from dsplit.analysis.fragments import fragment_levels
-    from dsplit.analysis.orbitals import _mol_indices
+def band_meaning_doc(calc: Calculation, tr: Transition | None) -> dict[str, Any]:
+    """What the first spin-allowed band of this dⁿ, geometry and spin state measures (models.bands)."""
     from dsplit.models.bands import band_meaning
-    from dsplit.models.comparison import compare
 
-    t0 = time.perf_counter()
-    tr = choose_transition(calc)
-    family = geometry_family(cx)
+    cx = calc.complex
     spin = "high" if calc.multiplicity == cx.counts.multiplicities[-1] else "low"
     try:
-        meaning = band_meaning(cx.d_count, family, spin)
-        meaning_doc = {"measures_delta_directly": meaning.measures_delta_directly, "text": meaning.text,
-                       "racah_b_enters": meaning.racah_b_enters, "has_spin_allowed_band": meaning.has_spin_allowed_band}
-    except Exception as exc:
-        meaning_doc = {"measures_delta_directly": False, "text": f"no rule for {family} ({exc})",
-                       "racah_b_enters": True, "has_spin_allowed_band": tr is not None}
-    # open shell: one restricted-open ground state serves the orbital estimator and, if needed, the state one
-    ro = restricted_open_ground(calc, folder, progress) if len(table.channels) == 2 else None
-    splitting: dict[str, Any] = {"orbital": orbital_estimator(calc, table, tr, folder, progress, restricted_open=ro)}
-    if tr is None:
-        reason = f"d^{cx.d_count} at 2S+1 = {calc.multiplicity}: no spin-allowed d–d excitation"
-        splitting["state"] = {**energy_block(None), "notes": [reason]}
-        splitting["excitation"] = {**energy_block(None), "notes": [reason]}
-    else:
-        splitting["state"] = state_estimator(calc, tr, folder, progress, restricted_open=ro)
-        splitting["excitation"] = excitation_estimator(calc, table, tr)
-    measures = meaning_doc["text"]
-    for name in ("state", "excitation"):
-        splitting[name]["measures"] = measures
-    splitting["orbital"]["measures"] = "one-electron gap between the d sets (not a state energy)"
-    donors = [pl.atom_indices[0] for pl in cx.ligands if pl.ligand.donor != "X"]
-    levels = fragment_levels(calc, _mol_indices(calc, donors),
-                             [np.asarray(pl.direction) for pl in cx.ligands if pl.ligand.donor != "X"])
-    models, checks = compare(spec, cx, calc, table, splitting)
-    return {"splitting": splitting, "band_meaning": meaning_doc, "models": models, "checks": checks,
-            "level_diagram": levels, "splitting_seconds": time.perf_counter() - t0}
+        m = band_meaning(cx.d_count, geometry_family(cx), spin)
+        return {"measures_delta_directly": m.measures_delta_directly, "text": m.text,
+                "racah_b_enters": m.racah_b_enters, "has_spin_allowed_band": m.has_spin_allowed_band}
+    except (ValueError, KeyError) as exc:
+        return {"measures_delta_directly": False, "text": f"no rule for {geometry_family(cx)} ({exc})",
+                "racah_b_enters": True, "has_spin_allowed_band": tr is not None}
+
+
+def no_band_estimate(calc: Calculation) -> dict[str, Any]:
+    """The value of an estimator that has no spin-allowed d–d excitation to measure."""
+    return {**energy_block(None),
+            "notes": [f"d^{calc.complex.d_count} at 2S+1 = {calc.multiplicity}: no spin-allowed d–d excitation"]}

@@ -20,6 +20,7 @@ from typing import Any, Iterable
 
 from dsplit.archive.locks import file_lock, lock_path
 from dsplit.archive.paths import INDEX_NAME, MANIFEST_NAME, run_folders
+from dsplit.errors import InputError
 
 ESTIMATORS = ("orbital", "state", "excitation")
 VERDICTS = {"agrees": "n_agrees", "differs": "n_differs", "not applicable": "n_not_applicable"}
@@ -161,6 +162,42 @@ def add_run(root: Path, folder: Path, result: dict[str, Any], manifest: dict[str
     with file_lock(lock_path(root, "index")):
         path = _ensure_index(root)
         return _retry(lambda: _upsert(connect(path), atoms, kv))
+
+
+DAMAGED = "index.db is damaged: run `dsplit archive rebuild-index`"
+
+
+def check_index(root: Path) -> None:
+    """InputError when index.db exists but SQLite cannot read it (checked before any SCF)."""
+    path = index_path(root)
+    if not path.is_file():
+        return
+    try:
+        con = sqlite3.connect(f"file:{path}?mode=ro", uri=True, timeout=20)
+        try:
+            con.execute("SELECT COUNT(*) FROM sqlite_master").fetchone()
+        finally:
+            con.close()
+    except sqlite3.DatabaseError as exc:
+        if isinstance(exc, sqlite3.OperationalError) and ("locked" in str(exc) or "busy" in str(exc)):
+            return  # another writer holds it; the writers' retry handles that
+        raise InputError("index.db", f"{DAMAGED} ({exc})") from None
+
+
+def add_run_or_warn(root: Path, folder: Path, result: dict[str, Any], manifest: dict[str, Any]) -> str | None:
+    """``add_run``; a damaged or unwritable index gives a one-line warning (returned and printed), never an error.
+
+    The run folder is already in place then: ``archive rebuild-index`` finds it again.
+    """
+    import sys
+
+    try:
+        add_run(root, folder, result, manifest)
+        return None
+    except (sqlite3.DatabaseError, OSError) as exc:
+        text = f"dsplit: warning: run kept in {folder}, but {DAMAGED} ({type(exc).__name__}: {exc})"
+        print(text, file=sys.stderr)
+        return text
 
 
 def has_run(root: Path, run_id: str) -> bool:

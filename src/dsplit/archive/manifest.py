@@ -1,7 +1,7 @@
 """manifest.json: what a finished run folder holds and how it was made.
 
-It lists the SHA-256 (FIPS 180-4, via hashlib) and size of every other file in
-the folder, the software versions, the machine, the timings and the run-id.
+It lists the SHA-256 and size of every other file in the folder (dsplit.runfolder),
+the software versions, the machine, the timings and the run-id.
 It is written last, just before the folder is renamed into place, so a folder
 whose manifest is missing or does not match its files is not a finished run.
 """
@@ -9,32 +9,16 @@ whose manifest is missing or does not match its files is not a finished run.
 from __future__ import annotations
 
 import datetime as _dt
-import hashlib
 import json
 import platform
 import socket
 from pathlib import Path
 from typing import Any
 
-from dsplit.archive.paths import MANIFEST_NAME
+from dsplit.runfolder import MANIFEST_NAME, MANIFEST_SCHEMA, MANIFEST_VERSION, file_table, folder_files, sha256_file
 
-SCHEMA_NAME = "dsplit.manifest"
-SCHEMA_VERSION = 1
-_CHUNK = 1 << 20
-
-
-def sha256_file(path: Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for block in iter(lambda: fh.read(_CHUNK), b""):
-            h.update(block)
-    return h.hexdigest()
-
-
-def folder_files(folder: Path) -> list[str]:
-    """Relative POSIX paths of every file below ``folder`` except the manifest."""
-    return sorted(p.relative_to(folder).as_posix() for p in folder.rglob("*")
-                  if p.is_file() and p.name != MANIFEST_NAME)
+SCHEMA_NAME = MANIFEST_SCHEMA
+SCHEMA_VERSION = MANIFEST_VERSION
 
 
 def build_manifest(folder: Path, *, run_id: str, name: str, kind: str, result: dict[str, Any],
@@ -53,8 +37,7 @@ def build_manifest(folder: Path, *, run_id: str, name: str, kind: str, result: d
                     "platform": prov.get("machine", {}).get("platform", platform.platform())},
         "timings": {"wall_seconds": wall_seconds, "run": prov.get("timings")},
         "options": options,
-        "files": {rel: {"sha256": sha256_file(folder / rel), "bytes": (folder / rel).stat().st_size}
-                  for rel in folder_files(folder)},
+        "files": file_table(folder),
     }
 
 

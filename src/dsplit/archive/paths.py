@@ -29,11 +29,11 @@ from pathlib import Path
 from typing import Any
 
 from dsplit.errors import InputError
+from dsplit.runfolder import MANIFEST_NAME  # noqa: F401  (the archive's modules read the name from here)
 
 ENV_VAR = "DSPLIT_ARCHIVE"
 DEFAULT_DIRNAME = "dsplit-archive"
 INDEX_NAME = "index.db"
-MANIFEST_NAME = "manifest.json"
 STUDIES_DIR = "_studies"
 LOCKS_DIR = ".locks"
 RUN_ID_RE = re.compile(r"^[a-p][0-9a-f]{15}$")
@@ -59,6 +59,24 @@ def archive_root(path: str | Path | None, create: bool = True, must_exist: bool 
             raise InputError("--archive", f"cannot create '{root}': a part of the path is a file") from None
     elif must_exist and not root.is_dir():
         raise InputError("--archive", f"no archive at '{root}'; give --archive DIR or set {ENV_VAR}")
+    return root
+
+
+def is_archive(root: Path) -> bool:
+    """Whether ``root`` holds a dsplit archive: an index, a lock folder, studies or a run folder."""
+    if not root.is_dir():
+        return False
+    if (root / INDEX_NAME).is_file() or (root / LOCKS_DIR).is_dir() or (root / STUDIES_DIR).is_dir():
+        return True
+    return next(run_folders(root), None) is not None
+
+
+def existing_archive(path: str | Path | None) -> Path:
+    """The archive at ``path`` (default as :func:`default_archive_root`); InputError if there is none."""
+    root = archive_root(path, create=False, must_exist=True)
+    if not is_archive(root):
+        raise InputError("--archive", f"no dsplit archive at '{root}' (no index.db, no run folders); "
+                                      f"give --archive DIR or set {ENV_VAR}")
     return root
 
 

@@ -44,14 +44,39 @@ def select_rows(root: Path, selection: str | None = None, sort: str | None = Non
 
     try:
         fast = None if need_formula else index.fast_rows(root, selection, sort=sort, limit=limit)
-        if fast is not None:
-            return fast
-        return index.iter_rows_kv(index.select(root, selection, sort=sort, limit=limit))
+        rows = fast if fast is not None else index.iter_rows_kv(index.select(root, selection, sort=sort, limit=limit))
+        return mark_folder_state(root, rows)
     except sqlite3.DatabaseError as exc:
         raise InputError("index.db", f"cannot read the index ({exc}); run 'dsplit archive rebuild-index'") from None
     except (ValueError, KeyError, IndexError) as exc:
         raise InputError("SELECTION", f"cannot read {selection!r} ({exc}); write e.g. metal=Fe,multiplicity>1 "
                                       "(ase.db selection syntax)") from None
+
+
+def folder_state(root: Path, row: dict[str, Any]) -> str | None:
+    """None when the row's run folder is intact (manifest + result.json hash), else what is wrong."""
+    from dsplit.archive.manifest import check_folder
+
+    rel = str(row.get("folder") or "")
+    folder = root / rel
+    if not rel or not folder.is_dir():
+        return "folder missing"
+    problems = check_folder(folder, quick=True)
+    return f"damaged ({problems[0]})" if problems else None
+
+
+def mark_folder_state(root: Path, rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """Rows whose folder is gone or whose result.json no longer matches its manifest say so in 'status'.
+
+    The index alone would still call them verified; the full check of every file is
+    ``archive verify``.
+    """
+    for row in rows:
+        bad = folder_state(root, row)
+        if bad is not None:
+            row["status"] = bad
+            row["damaged"] = True
+    return rows
 
 
 def resolve_run(root: Path, run: str) -> Path:
@@ -151,7 +176,7 @@ def compare_figure(rows: list[dict[str, Any]], by: str, path: Path) -> Path:
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    from dsplit.models.units import cm1_to_ev, ev_to_cm1
+    from dsplit.units import cm1_to_ev, ev_to_cm1
 
     labels = run_labels(rows, by)
     fig, ax = plt.subplots(figsize=(max(4.0, 0.9 * len(rows) + 2), 3.6))

@@ -19,8 +19,8 @@ from __future__ import annotations
 
 import os
 import shutil
+import sqlite3
 import time
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
 
@@ -28,18 +28,36 @@ from dsplit.archive.locks import file_lock, lock_path
 from dsplit.archive.manifest import build_manifest, check_folder, read_json
 from dsplit.archive.paths import (MANIFEST_NAME, archive_root, check_name, default_archive_root, key_versions,
                                   remove_stale_tmp, run_folder, run_id_for, tmp_folder)
-from dsplit.compute_api import RunOutput, write_json_atomic
+from dsplit.errors import InputError
+from dsplit.runfolder import RunOutput, swap_into_place, write_json
 from dsplit.spec import Spec
 
-__all__ = ["ArchivedRun", "compute_archived", "run_archived", "lookup", "default_archive_root", "archive_run_id"]
+__all__ = ["ArchivedRun", "run_archived", "lookup", "default_archive_root", "archive_run_id",
+           "check_writable_archive"]
+
+#: an archived run is a RunOutput whose ``out_dir`` is the run folder (``cached``: answered from the archive)
+ArchivedRun = RunOutput
 
 
-@dataclass
-class ArchivedRun(RunOutput):
-    """A RunOutput whose ``out_dir`` is the archived run folder; ``cached``: answered from the archive."""
+def check_writable_archive(archive: str | Path | None, check_index: bool = True) -> Path:
+    """The archive folder, created if needed; InputError unless new runs can be written there.
 
-    cached: bool = False
-    run_id: str = ""
+    Checked before any SCF: a read-only archive (permissions, a read-only file system) or a
+    damaged index.db would otherwise fail only after the calculation.
+    """
+    from dsplit.archive import index
+
+    root = archive_root(archive, create=False, must_exist=False)
+    probe = root
+    while not probe.exists():
+        probe = probe.parent
+    if not os.access(probe, os.W_OK | os.X_OK):
+        raise InputError("--archive", f"cannot write in '{probe}' (no permission or a read-only file system); "
+                                      "give --archive DIR on a writable disk")
+    root = archive_root(archive, create=True)
+    if check_index:
+        index.check_index(root)
+    return root
 
 
 def archive_run_id(spec: Spec, kind: str = "compute", options: dict[str, Any] | None = None) -> str:
@@ -59,28 +77,23 @@ def _load_if_intact(root: Path, folder: Path, reindex: bool) -> ArchivedRun | No
         return None
     result = read_json(folder / "result.json")
     manifest = read_json(folder / MANIFEST_NAME)
-    if reindex:
+    if reindex and os.access(root, os.W_OK):  # a read-only archive answers without mending its index
         from dsplit.archive import index
 
-        if not index.has_run(root, folder.name):  # the writer died between rename and index
-            index.add_run(root, folder, result, manifest)
+        try:
+            missing = not index.has_run(root, folder.name)  # the writer died between rename and index
+        except sqlite3.DatabaseError:  # a damaged index: the run folder still answers; verify says the rest
+            missing = False
+        if missing:
+            index.add_run_or_warn(root, folder, result, manifest)
     return ArchivedRun(result, folder, int(manifest.get("exit_code", 0)), cached=True, run_id=folder.name)
 
 
 def _commit(tmp: Path, final: Path, replace: bool) -> bool:
-    """Rename tmp → final.  False if an intact run is already there and ``replace`` is off."""
-    try:
-        os.rename(tmp, final)
-        return True
-    except OSError:
-        if not final.exists():
-            raise
-    if not replace and not check_folder(final, quick=True):
+    """Put tmp in place as final.  False if an intact run is already there and ``replace`` is off."""
+    if final.exists() and not replace and not check_folder(final, quick=True):
         return False
-    trash = final.with_name(f".trash-{final.name}-{os.getpid()}")
-    os.rename(final, trash)
-    os.rename(tmp, final)
-    shutil.rmtree(trash, ignore_errors=True)
+    swap_into_place(tmp, final)
     return True
 
 
@@ -90,8 +103,8 @@ def run_archived(spec: Spec, archive: str | Path | None, produce: Callable[[Path
     """Answer ``spec`` from the archive, or run ``produce(out_dir)`` and archive what it wrote.
 
     ``produce`` must write a finished run folder at ``out_dir`` (result.json at least)
-    and return an object with ``.result`` (dict) and ``.exit_code`` — e.g. a lambda
-    around ``dsplit.compute_api.compute``.  ``options`` are settings that change the
+    and return an object with ``.result`` (dict) and ``.exit_code`` — e.g. a closure
+    around ``dsplit.api.compute.write_run``.  ``options`` are settings that change the
     result (they enter the run-id); ``kind`` names the producer (compute, spin-states, …).
     """
     root = archive_root(archive)
@@ -117,11 +130,11 @@ def run_archived(spec: Spec, archive: str | Path | None, produce: Callable[[Path
             result = read_json(tmp / "result.json")
             result["archive"] = {"run_id": run_id, "folder": f"{name}/{run_id}", "kind": kind,
                                  "key_versions": versions}
-            write_json_atomic(tmp / "result.json", result)
+            write_json(tmp / "result.json", result)
             manifest = build_manifest(tmp, run_id=run_id, name=name, kind=kind, result=result,
                                       exit_code=int(out.exit_code), key_versions=versions,
                                       options=options or {}, wall_seconds=time.perf_counter() - t0)
-            write_json_atomic(tmp / MANIFEST_NAME, manifest)
+            write_json(tmp / MANIFEST_NAME, manifest)
             committed = _commit(tmp, final, replace=recompute)
         finally:
             shutil.rmtree(tmp, ignore_errors=True)
@@ -130,32 +143,5 @@ def run_archived(spec: Spec, archive: str | Path | None, produce: Callable[[Path
                                                                              run_id=run_id)
     from dsplit.archive import index
 
-    index.add_run(root, final, result, manifest)
+    index.add_run_or_warn(root, final, result, manifest)  # the run folder stays whatever the index does
     return ArchivedRun(result, final, int(out.exit_code), cached=False, run_id=run_id)
-
-
-def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: bool = False, *,
-                     threads: int | None = None, memory_mb: int | None = None, progress: Callable | None = None,
-                     start_from: Path | None = None, estimators: bool = True, write_reports: bool = True,
-                     on_wait: Callable[[], None] | None = None) -> ArchivedRun:
-    """``dsplit.compute_api.compute`` through the archive (cache hit unless ``recompute``).
-
-    Threads, memory and the start checkpoint do not enter the run-id; switching the
-    estimators or the reports off does (those runs hold less).  A hit returns the
-    archived RunOutput (its ``out_dir`` is the run folder) without importing PySCF.
-    """
-    from dsplit.compute_api import compute, preflight
-
-    options = {k: v for k, v in {"estimators": estimators, "write_reports": write_reports}.items() if not v}
-    check_name(spec.name)
-    if not recompute:  # a hit needs neither validation nor PySCF: the spec was checked when it ran
-        root = archive_root(archive, create=False, must_exist=False)
-        hit = lookup(root, spec, "compute", options) if root.is_dir() else None
-        if hit is not None:
-            return hit
-    preflight(spec, threads, memory_mb)  # bad input fails before any folder is made
-    return run_archived(
-        spec, archive,
-        lambda out: compute(spec, out, threads=threads, memory_mb=memory_mb, progress=progress,
-                            start_from=start_from, estimators=estimators, write_reports=write_reports),
-        kind="compute", options=options, recompute=recompute, on_wait=on_wait)

@@ -19,7 +19,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from dsplit.errors import InputError
-from dsplit.geometry.polyhedra import Polyhedron
 from dsplit.models.aom import D_ORBITALS, aom_matrix
 
 #: eπ/eσ used only to order the d sets of each geometry (see module docstring)
@@ -47,11 +46,15 @@ def allowed_multiplicities(d_count: int) -> list[int]:
     return list(range(d_count % 2 + 1, max_unpaired + 2, 2))
 
 
-def d_sets(poly: Polyhedron) -> list[DSet]:
-    """The geometry's d sets in ascending model energy (σ/π AOM, see module doc)."""
-    diagonal = np.diag(aom_matrix(poly.directions, 1.0, ORDERING_PI_RATIO))
+def d_sets(directions: np.ndarray, d_set_labels) -> list[DSet]:
+    """The d sets (label, frame orbitals) of donors along ``directions``, in ascending model energy.
+
+    Energies from the σ/π AOM of the module docstring; ``d_set_labels`` pairs each label with
+    its frame d orbitals (as ``geometry.polyhedra.Polyhedron.d_set_labels``).
+    """
+    diagonal = np.diag(aom_matrix(directions, 1.0, ORDERING_PI_RATIO))
     out = []
-    for label, orbs in poly.d_set_labels:
+    for label, orbs in d_set_labels:
         idx = [D_ORBITALS.index(o) for o in orbs]
         # in the builder frame the AOM matrix is diagonal over each set's orbitals
         out.append(DSet(label, tuple(orbs), float(np.mean(diagonal[idx]))))
@@ -100,9 +103,8 @@ def parse_configuration(text: str, sets: list[DSet], d_count: int,
     return occ
 
 
-def spin_configurations(poly: Polyhedron, d_count: int) -> dict[int, str]:
+def spin_configurations(sets: list[DSet], d_count: int) -> dict[int, str]:
     """Configuration string for every allowed multiplicity of dⁿ."""
-    sets = d_sets(poly)
     return {m: format_configuration(sets, configuration_occupations(sets, d_count, m))
             for m in allowed_multiplicities(d_count)}
 
@@ -119,10 +121,10 @@ class ElectronCount:
 
 
 def count_electrons(metal_z: int, d_count: int, atomic_numbers: list[int], charge: int,
-                    n_sigma_donors: int, poly: Polyhedron) -> ElectronCount:
+                    n_sigma_donors: int, sets: list[DSet]) -> ElectronCount:
     """All counts for a complex (ghost/point donors have Z = 0 and add nothing)."""
     mults = allowed_multiplicities(d_count)
-    confs = spin_configurations(poly, d_count)
+    confs = spin_configurations(sets, d_count)
     return ElectronCount(
         charge=charge,
         d_count=d_count,

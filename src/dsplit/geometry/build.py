@@ -261,9 +261,9 @@ def build_complex(req: ComplexRequest) -> Complex:
                          f"atoms {symbols[i]}{i} and {symbols[j]}{j} come {pair.min():.2f} Å apart "
                          f"(< {MIN_CONTACT} Å); use longer metal–ligand distances")
 
-    sets = d_sets(poly)
+    sets = d_sets(poly.directions, poly.d_set_labels)
     ec = count_electrons(m.atomic_number, d_count, [atomic_numbers[s] for s in symbols], charge,
-                         n_sigma_donors=len(ligs), poly=poly)
+                         n_sigma_donors=len(ligs), sets=sets)
     if req.multiplicity is None:
         mult, why = default_multiplicity(ec.multiplicities, m.row, poly.geometry, d_count, ox,
                                          [lig.key for lig in ligs], sets)

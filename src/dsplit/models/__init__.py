@@ -3,5 +3,5 @@
 aom (angular overlap matrix), crystal_field (point charges), levels (degenerate
 sets, d composition), fit (eσ/eπ least squares), filling (dⁿ, CFSE, spin state,
 μ_spin-only), bands (what the first d–d band measures), spectrochemical
-(series, weak/strong field), checks (verdicts), units (CODATA conversions).
+(series, weak/strong field), checks (verdicts).
 """

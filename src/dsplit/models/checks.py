@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 
 from dsplit.models.fit import AOMFit
 from dsplit.models.spectrochemical import SPECTROCHEMICAL_SERIES, order_by_field
-from dsplit.models.units import to_cm1
+from dsplit.units import to_cm1
 
 AGREES = "agrees"
 DIFFERS = "differs"

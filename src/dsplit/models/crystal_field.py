@@ -26,7 +26,7 @@ import numpy as np
 from scipy.special import eval_legendre
 
 from dsplit.models.aom import overlap_factors
-from dsplit.models.units import BOHR_IN_ANGSTROM
+from dsplit.units import BOHR_IN_ANGSTROM
 
 
 @lru_cache(maxsize=1)

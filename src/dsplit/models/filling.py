@@ -133,3 +133,17 @@ def spin_only_moment(unpaired: int) -> float:
     if unpaired < 0:
         raise ValueError("unpaired must be ≥ 0")
     return float(np.sqrt(unpaired * (unpaired + 2)))
+
+
+#: spin contamination flagged above 10 % of S(S+1), or 0.1 absolute for S = 0 and ½ (common practice)
+CONTAMINATION_RELATIVE = 0.10
+CONTAMINATION_FLOOR = 0.10
+CONTAMINATION_RULE = (f"|⟨S²⟩ − S(S+1)| > max({CONTAMINATION_FLOOR}, {CONTAMINATION_RELATIVE:.0%} of S(S+1))")
+
+
+def spin_contamination(spin_square: float, multiplicity: int) -> tuple[float, float, bool]:
+    """(S(S+1), ⟨S²⟩ − S(S+1), flagged) for a state of 2S+1 = ``multiplicity`` (rule above)."""
+    s = (multiplicity - 1) / 2
+    expected = s * (s + 1)
+    dev = spin_square - expected
+    return expected, dev, abs(dev) > max(CONTAMINATION_FLOOR, CONTAMINATION_RELATIVE * expected)

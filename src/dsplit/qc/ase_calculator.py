@@ -16,8 +16,6 @@ An SCF that fails to converge or lands in another d configuration raises
 
 from __future__ import annotations
 
-import contextlib
-import io
 from dataclasses import replace
 from pathlib import Path
 
@@ -27,6 +25,7 @@ from ase.units import Bohr, Hartree
 
 from dsplit.complex import Complex
 from dsplit.errors import CalculationError, InputError
+from dsplit.qc.resources import pyscf_threads, pyscf_warnings_to_notes
 
 
 def complex_at(cx: Complex, positions: np.ndarray) -> Complex:
@@ -53,7 +52,7 @@ def nuclear_gradient(calc) -> np.ndarray:
     fails, e.g., for Td run in D2); otherwise the raw gradient is used — from a
     symmetric density it is symmetric to numerical precision.
     """
-    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+    with pyscf_threads(calc.setup.threads), pyscf_warnings_to_notes():
         grad = calc.mf.nuc_grad_method()
         grad.verbose = calc.mf.verbose
         mol = calc.mf.mol
@@ -81,7 +80,9 @@ def carry_checkpoint(previous: Path, cx: Complex, setup, multiplicity: int | Non
 
     from dsplit.qc.setup import build_mole
 
-    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+    from pyscf.lo.orth import vec_lowdin
+
+    with pyscf_warnings_to_notes():
         old_mol, rec = chkfile.load_scf(str(previous))
         mol, _ = build_mole(cx, setup, multiplicity)
     if old_mol.natm != mol.natm or not gto.same_basis_set(old_mol, mol):
@@ -91,8 +92,7 @@ def carry_checkpoint(previous: Path, cx: Complex, setup, multiplicity: int | Non
     def orthonormal(c: np.ndarray, occ: np.ndarray) -> np.ndarray:
         c = np.array(c, dtype=float)
         idx = np.asarray(occ) > 0
-        w, v = np.linalg.eigh(c[:, idx].T @ s @ c[:, idx])
-        c[:, idx] = c[:, idx] @ (v / np.sqrt(w)) @ v.T
+        c[:, idx] = vec_lowdin(c[:, idx], s)
         return c
 
     mo, occ = np.asarray(rec["mo_coeff"]), np.asarray(rec["mo_occ"])

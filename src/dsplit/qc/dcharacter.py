@@ -160,3 +160,20 @@ def align_degenerate_to_frame(mol, mo_coeff: np.ndarray, mo_energy: np.ndarray, 
             mo_coeff[:, g] = mo_coeff[:, g] @ r
             moved += 1
     return moved
+
+
+def align_manifold_to_frame(mf, picks: list[list[SetPick]], sets: list[DSet], projector: np.ndarray) -> None:
+    """Rotate each degenerate d level of every spin channel onto the frame d orbitals, in place.
+
+    Called once by the calculation stage on its own fresh mean-field object, before the
+    Calculation record is handed on (later stages never change orbitals).
+    """
+    from dsplit.qc.targeting import orbital_symmetries
+
+    occ = np.asarray(mf.mo_occ)
+    if occ.ndim == 2:  # mf.mo_coeff[s] is the stored array (or a view of it): rotated in place
+        channels = [(mf.mo_coeff[s], occ[s], np.asarray(mf.mo_energy[s])) for s in (0, 1)]
+    else:  # restricted (closed or open shell): one orbital set, aligned once
+        channels = [(mf.mo_coeff, occ, np.asarray(mf.mo_energy))]
+    for ch, (c, o, e) in enumerate(channels):
+        align_degenerate_to_frame(mf.mol, c, e, o, picks[ch], sets, projector, orbital_symmetries(mf, c))

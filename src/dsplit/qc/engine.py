@@ -14,100 +14,32 @@ import os
 import platform
 import sys
 import time
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
 from dsplit.complex import Complex
 from dsplit.errors import InputError
-from dsplit.qc.dcharacter import SetPick, d_weights, orthogonal_projector, pick_d_based, spin_resolved_target
+from dsplit.models.filling import spin_contamination
+from dsplit.qc.dcharacter import SetPick, align_manifold_to_frame, d_weights, orthogonal_projector, pick_d_based, \
+    spin_resolved_target
 from dsplit.qc.ladder import Progress, RungRecord, lowest_hessian_eigenvalue, run_ladder
+from dsplit.qc.records import Calculation, spin_channels
+from dsplit.qc.resources import pyscf_threads, pyscf_warnings_to_notes
 from dsplit.qc.setup import MethodSetup, build_mole, make_mean_field, memory_estimate_mb
 from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupation
 
 MAX_STABILITY_FOLLOWS = 2
-SPIN_CONTAMINATION_TOL = 0.1  # |⟨S²⟩ − S(S+1)| above 10 % (or 0.1 for S ≤ 1/2): flagged (common practice)
-EXCITED_CONV_TOL = 1e-7  # Eh; the energy error is of this order, below the 1e-5 eV (4e-7 Eh) that ΔSCF values are read to
-#: rungs of an excited-configuration SCF (maximum-overlap occupations hold in all three), with the
-#: cycles plain DIIS and the level shift get before the next rung takes over.  Measured: on
-#: cis-[CrCl2(NH3)4]+ (B3LYP/def2-SVP) a maximum-overlap DIIS that had not settled by 40 cycles went on
-#: oscillating to the 100-cycle limit; on [Cr(NH3)6]3+ (B3LYP/3-21G) DIIS and level shift both flipped
-#: between two occupations for 100 cycles each, and the Newton solver then converged in 3 macro steps
-EXCITED_RUNGS: tuple[str, ...] = ("diis", "level-shift", "newton")
-#: the Newton rung is capped too (macro steps, each up to ~20 Fock builds): converging excited runs took
-#: 3; on cis-[CrCl2(NH3)4]+ (UKS, def2-SVP) it was still at |g| 0.08 after 2 macro steps (8 min, one core)
-EXCITED_CYCLE_CAPS = {"diis": 30, "level-shift": 30, "newton": 4}
-#: cycles plain DIIS and the level shift get in a ground-state ladder before the next rung: measured on
-#: [Fe(H2O)6]2+ quintet (UKS PBE/3-21G, PCM) DIIS and the level shift each ran out their 100 cycles
-#: oscillating before the Newton rung was reached; 50 is well above the 10–40 cycles converging runs take
+#: cycles plain DIIS and the level shift get in a ground-state ladder before the next rung (oscillating
+#: runs otherwise used their whole cycle budget before the Newton rung; see benchmarks/compute_overhead.py)
 GROUND_CYCLE_CAPS = {"diis": 50, "level-shift": 50}
 IMPLAUSIBLE_STEER_RISE = 0.5  # Eh (~13.6 eV): a steered ground configuration this far up is not a d state
-
-
-@dataclass
-class Calculation:
-    """A finished run (converged or not) with everything later stages read."""
-
-    complex: Complex
-    setup: MethodSetup
-    mol: object
-    mf: object
-    multiplicity: int
-    target_occupations: list[int]
-    target_alpha: list[int]
-    target_beta: list[int]
-    converged: bool
-    configuration_verified: bool
-    configuration_found: str
-    picks: list[list[SetPick]]  # per spin channel (1 for restricted closed shell)
-    rungs: list[RungRecord]
-    stability_lowest: float | None
-    stability_followed: int
-    targeting: str | None  # None, "irrep_nelec" or "maximum-overlap"
-    symmetry_group: str  # PySCF's group used in the SCF ("C1" without symmetry)
-    timings: dict[str, float]
-    notes: list[str] = field(default_factory=list)
-    warnings: list[str] = field(default_factory=list)
-    log_path: Path | None = None
-    chk_path: Path | None = None
-
-    @property
-    def ok(self) -> bool:
-        return self.converged and self.configuration_verified
-
-    @property
-    def energy_hartree(self) -> float:
-        return float(self.mf.e_tot)
-
-    @property
-    def unrestricted(self) -> bool:
-        return np.asarray(self.mf.mo_occ).ndim == 2
-
-    def spin_square(self) -> tuple[float, float]:
-        """(⟨S²⟩, 2S+1) from PySCF."""
-        if not self.unrestricted:
-            s = (self.multiplicity - 1) / 2
-            return s * (s + 1), float(self.multiplicity)
-        ss, m = self.mf.spin_square()
-        return float(ss), float(m)
-
-
-def _channels(mf) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
-    """(mo_coeff, mo_occ, mo_energy) per spin channel; ROHF split into α/β occupations."""
-    occ = np.asarray(mf.mo_occ)
-    if occ.ndim == 2:
-        return [(mf.mo_coeff[s], occ[s], mf.mo_energy[s]) for s in (0, 1)]
-    if (occ == 1).any():  # restricted open shell: same orbitals, α = occ > 0, β = occ == 2
-        return [(mf.mo_coeff, (occ > 0).astype(float), mf.mo_energy),
-                (mf.mo_coeff, (occ > 1).astype(float), mf.mo_energy)]
-    return [(mf.mo_coeff, occ, mf.mo_energy)]
 
 
 def check_configuration(mf, cx: Complex, projector: np.ndarray, target_alpha: list[int],
                         target_beta: list[int]) -> tuple[bool, list[list[SetPick]], str]:
     """Compare the d-based MO occupations with the target, per spin."""
-    chans = _channels(mf)
+    chans = spin_channels(mf)
     picks = [pick_d_based(d_weights(mf.mol, c, projector), o, cx.d_sets, e) for c, o, e in chans]
     if len(chans) == 1:
         found = [round(p.occupation) for p in picks[0]]
@@ -217,7 +149,7 @@ def reorthonormalised_density(mf, chk_path: Path):
 
 
 def _target_occupations(mf, picks, target_alpha, target_beta):
-    chans = _channels(mf)
+    chans = spin_channels(mf)
     closed = len(chans) == 1
     targets = [[a + b for a, b in zip(target_alpha, target_beta)]] if closed else [target_alpha, target_beta]
     nelec = [mf.mol.nelectron] if closed else list(mf.mol.nelec)
@@ -294,17 +226,6 @@ def provenance_versions() -> dict[str, str]:
             "scipy": scipy.__version__, "ase": ase.__version__, "python": platform.python_version()}
 
 
-def quiet_pyscf():
-    """Context: PySCF's stdout and its stderr warnings go nowhere (they are in the run's log)."""
-    import contextlib
-    import io
-
-    stack = contextlib.ExitStack()
-    stack.enter_context(contextlib.redirect_stdout(io.StringIO()))
-    stack.enter_context(contextlib.redirect_stderr(io.StringIO()))
-    return stack
-
-
 def run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = None, **kwargs) -> Calculation:
     """Run, stabilise and verify one SCF of ``cx`` (see module docstring).
 
@@ -313,22 +234,20 @@ def run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = None
     ``stability``, ``tag`` (file stem of the log and checkpoint).  PySCF's own
     terminal output (stdout and its stderr warnings) goes to the log only.
     """
-    # PySCF writes warnings to stderr as well as to its log: keep them in the log only
-    with quiet_pyscf():
-        return _run_calculation(cx, setup, out_dir, **kwargs)
+    with pyscf_threads(setup.threads), pyscf_warnings_to_notes() as caught:
+        calc = _run_calculation(cx, setup, out_dir, **kwargs)
+    calc.notes.extend(caught)
+    return calc
 
 
 def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = None, *,
                      multiplicity: int | None = None, target_occupations: list[int] | None = None,
                      progress: Progress | None = None, start_from: Path | None = None,
                      use_symmetry: bool = True, stability: bool = True, tag: str = "scf") -> Calculation:
-    from pyscf import lib
-
     from dsplit.chem.counting import configuration_occupations
 
     timings: dict[str, float] = {}
     t_wall, t_cpu = time.perf_counter(), time.process_time()
-    lib.num_threads(setup.threads)
     mult = multiplicity or cx.multiplicity
     if target_occupations is None:
         target_occupations = (configuration_occupations(cx.d_sets, cx.d_count, mult) if multiplicity
@@ -408,6 +327,8 @@ def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = Non
                 elif verified and landed_energy < mf.e_tot - 1e-6:
                     notes.append(f"the SCF first found {landed} {(mf.e_tot - landed_energy) * 627.5094740631:.1f} "
                                  "kcal/mol below the target configuration: the target may not be the ground state")
+    if verified:  # degenerate d MOs onto the frame orbitals (density unchanged; see dcharacter)
+        align_manifold_to_frame(mf, picks, cx.d_sets, projector)
     timings["configuration"] = time.perf_counter() - t0
     timings["wall"] = time.perf_counter() - t_wall
     timings["cpu"] = time.process_time() - t_cpu
@@ -419,8 +340,8 @@ def _run_calculation(cx: Complex, setup: MethodSetup, out_dir: Path | None = Non
                      "an orbitally degenerate state (Jahn–Teller) or a lower solution of another symmetry")
     if mf.converged and np.asarray(mf.mo_occ).ndim == 2:
         ss = float(mf.spin_square()[0])
-        exact = (mult - 1) / 2 * ((mult - 1) / 2 + 1)
-        if abs(ss - exact) > SPIN_CONTAMINATION_TOL * max(1.0, exact):
+        exact, _, contaminated = spin_contamination(ss, mult)
+        if contaminated:
             warnings.append(f"spin contamination: ⟨S²⟩ = {ss:.3f} against S(S+1) = {exact:.3f}")
     if not mf.converged:
         warnings.append("SCF did not converge on any rung: no result")
@@ -445,123 +366,3 @@ def _spec_occupations(cx: Complex) -> list[int]:
 def machine_info() -> dict[str, object]:
     return {"platform": platform.platform(), "processor": platform.machine(), "cores": os.cpu_count(),
             "python_executable": sys.executable}
-
-
-def block_aufbau_reaches(syms, occupations, energies) -> bool:
-    """True when filling each symmetry block in energy order gives exactly the wanted orbitals.
-
-    Fixing electron counts per block (``irrep_nelec``) still fills each block by
-    aufbau; if a lower orbital of the particle's block is empty in the wanted
-    configuration (e.g. metal 4s in a1g below the eg particle), block occupations
-    would land there, so the maximum-overlap method is the right tool instead.
-    """
-    for sym, occ, e in zip(syms, occupations, energies):
-        sym, occ, e = np.asarray(sym), np.asarray(occ), np.asarray(e)
-        for ir in set(sym.tolist()):
-            idx = np.where(sym == ir)[0]
-            n = int(round(float(occ[idx].sum())))
-            by_energy = idx[np.argsort(e[idx], kind="stable")]
-            if set(by_energy[:n].tolist()) != set(idx[occ[idx] > 0.5].tolist()):
-                return False
-    return True
-
-
-def run_excited(ground: Calculation, occupations: list[np.ndarray], target_alpha: list[int],
-                target_beta: list[int], multiplicity: int | None = None, out_dir: Path | None = None,
-                tag: str = "excited", progress: Progress | None = None) -> Calculation:
-    """ΔSCF: converge an excited d configuration from the ground state's orbitals.
-
-    ``occupations`` are occupation vectors over the ground MOs (one per spin channel;
-    α and β for unrestricted).  Electrons are fixed per symmetry block when the
-    blocks tell the configurations apart, else the maximum-overlap method keeps
-    the chosen orbitals occupied.  The result is checked against the target like
-    any ground state; no stability analysis (an excited state is a saddle point).
-    """
-    with quiet_pyscf():
-        return _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, out_dir, tag, progress)
-
-
-def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, out_dir, tag, progress):
-    from pyscf import scf
-
-    from dsplit.qc.setup import make_mean_field
-
-    t0, c0 = time.perf_counter(), time.process_time()
-    cx, setup = ground.complex, ground.setup
-    mult = multiplicity or ground.multiplicity
-    mol = ground.mol
-    if mult != ground.multiplicity:
-        mol = mol.copy()
-        mol.spin = mult - 1
-        mol.build(False, False)
-    # a restricted-open ground (ROKS/ROHF: one orbital set, α and β occupations) gives a restricted-open excited SCF
-    restricted_open = not ground.unrestricted and len(_channels(ground.mf)) == 2 and len(occupations) == 2
-    unrestricted = len(occupations) == 2 and not restricted_open
-    mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
-    mf.conv_tol = EXCITED_CONV_TOL
-    if out_dir is not None:
-        mf.chkfile = str(out_dir / f"{tag}.chk")
-    chans = _channels(ground.mf)
-    mo = [c for c, _, _ in chans]
-    if unrestricted and len(mo) == 1:
-        mo = [mo[0], mo[0]]
-    notes: list[str] = []
-    method = None
-    syms = [orbital_symmetries(ground.mf, c) for c in mo]
-    mo_arr = np.array(mo) if unrestricted else mo[0]
-    occ_arr = np.array(occupations) if unrestricted else occupations[0]
-    mom_occ = np.array(occupations) if restricted_open else occ_arr  # PySCF's ROHF MOM takes (α, β) occupations
-    if restricted_open:
-        occ_arr = occupations[0] + occupations[1]  # 2/1/0 for the ROHF density
-    blocks_differ = False
-    if all(s is not None for s in syms) and mol.groupname != "C1":
-        new = [irrep_counts(s, o) for s, o in zip(syms, occupations)]
-        ground_occ = [c[1] for c in chans]
-        if unrestricted and len(chans) == 1:  # closed-shell ground seen as two spin channels
-            ground_occ = [chans[0][1] / 2.0, chans[0][1] / 2.0]
-        old = [irrep_counts(s, o) for s, o in zip(syms, ground_occ)]
-        blocks_differ = new != old
-        energies = [e for _, _, e in chans] * (2 if unrestricted and len(chans) == 1 else 1)
-        if blocks_differ and not block_aufbau_reaches(syms, occupations, energies):
-            notes.append("block-fixed occupations would fill a lower orbital of the particle's block; "
-                         "maximum overlap used")
-            blocks_differ = False
-        if blocks_differ:
-            irreps = sorted(set().union(*new))
-            mf.irrep_nelec = ({ir: int(round(new[0].get(ir, 0))) for ir in irreps} if len(new) == 1 else
-                              {ir: (int(round(new[0].get(ir, 0))), int(round(new[1].get(ir, 0)))) for ir in irreps})
-            method = "irrep_nelec"
-    if method is None:
-        mf = scf.addons.mom_occ(mf, mo_arr, mom_occ)
-        method = "maximum-overlap"
-    dm = mf.make_rdm1(mo_arr, occ_arr)
-    mf, rungs = run_ladder(mf, dm, progress, rungs=EXCITED_RUNGS, cycle_caps=EXCITED_CYCLE_CAPS)
-    projector = orthogonal_projector(mol)
-    verified, picks, found = (False, [], "not checked")
-    if mf.converged:
-        verified, picks, found = check_configuration(mf, cx, projector, target_alpha, target_beta)
-    if method == "irrep_nelec" and not (mf.converged and verified):
-        # the block may hold a lower non-d orbital (e.g. metal 4s in a1g beside eg): keep the d orbital
-        notes.append("block-fixed excited SCF " + ("landed in " + found if mf.converged else "did not converge")
-                     + "; retried with maximum overlap")
-        mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
-        mf.conv_tol = EXCITED_CONV_TOL
-        mf = scf.addons.mom_occ(mf, mo_arr, mom_occ)
-        method = "maximum-overlap"
-        mf, more = run_ladder(mf, mf.make_rdm1(mo_arr, occ_arr), progress, rungs=EXCITED_RUNGS,
-                              cycle_caps=EXCITED_CYCLE_CAPS)
-        rungs += more
-        verified, picks, found = (False, [], "not checked")
-        if mf.converged:
-            verified, picks, found = check_configuration(mf, cx, projector, target_alpha, target_beta)
-    occ_total = [a + b for a, b in zip(target_alpha, target_beta)]
-    warnings = [] if (mf.converged and verified) else [
-        "excited configuration did not converge" if not mf.converged else f"excited SCF landed in {found}"]
-    return Calculation(
-        complex=cx, setup=setup, mol=mol, mf=mf, multiplicity=mult, target_occupations=occ_total,
-        target_alpha=list(target_alpha), target_beta=list(target_beta), converged=bool(mf.converged),
-        configuration_verified=verified, configuration_found=found, picks=picks, rungs=rungs,
-        stability_lowest=None, stability_followed=0, targeting=method,
-        symmetry_group=ground.symmetry_group,
-        timings={"wall": time.perf_counter() - t0, "cpu": time.process_time() - c0}, notes=notes,
-        warnings=warnings)

@@ -102,7 +102,7 @@ class OptimizationResult:
 
     def to_json(self) -> dict[str, Any]:
         """The result.json ``optimization`` section (Hartree, Å; kJ/mol added)."""
-        from dsplit.models.units import hartree_to_kjmol
+        from dsplit.units import hartree_to_kjmol
 
         last = self.steps[-1] if self.steps else None
         de = self.energy_change

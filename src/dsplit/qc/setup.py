@@ -55,23 +55,41 @@ def check_theory(theory: str) -> tuple[str, bool, float]:
     return name.upper(), False, float(hyb)
 
 
-def check_basis(basis: str, symbols: list[str]) -> str | None:
-    """Raise InputError unless every element has the basis; return the matching ECP name or None."""
+def _load_shells(basis: str, symbol: str):
     import warnings
 
     from pyscf import gto
 
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            return gto.basis.load(basis, symbol)
+    except Exception:
+        return None
+
+
+def check_basis(basis: str, symbols: list[str]) -> str | None:
+    """Raise InputError unless every element has the basis; return the matching ECP name or None.
+
+    A name PySCF does not know at all gets the closest names of its basis library in the
+    message (difflib), not an element-by-element complaint.
+    """
+    import difflib
+
+    from pyscf import gto
+
+    elements = sorted(set(symbols))
+    missing = [sym for sym in elements if not _load_shells(basis, sym)]
+    if missing and len(missing) == len(elements):
+        key = gto.basis._format_basis_name(basis)
+        close = difflib.get_close_matches(key, list(gto.basis.ALIAS), n=4, cutoff=0.6)
+        hint = f"close names: {', '.join(close)}" if close else "e.g. def2-SVP, def2-TZVP, 6-31G*, cc-pVDZ"
+        raise InputError("method.basis", f"PySCF does not know the basis '{basis}'; {hint}")
+    if missing:
+        raise InputError("method.basis", f"basis '{basis}' has no functions for {', '.join(missing)}; "
+                                         "choose one that covers every element, e.g. def2-SVP")
     ecp = None
-    for sym in sorted(set(symbols)):
-        try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                shells = gto.basis.load(basis, sym)
-        except Exception:
-            shells = None
-        if not shells:
-            raise InputError("method.basis", f"basis '{basis}' has no functions for {sym} (or is unknown to PySCF); "
-                                             "choose one that covers every element, e.g. def2-SVP")
+    for sym in elements:
         try:
             if gto.basis.load_ecp(basis, sym):
                 ecp = basis
@@ -89,9 +107,8 @@ def resolve_method(cx: Complex, method: MethodSpec, threads: int | None = None,
     symbols = [s for s in cx.atoms.get_chemical_symbols() if s != "X"]
     ecp = check_basis(method.basis, symbols)
     solvent = resolve_solvent(method.solvent, cx.charge)
-    n_threads = threads or os.cpu_count() or 1
-    if n_threads < 1:
-        raise InputError("--threads", "must be ≥ 1")
+    check_resources(threads, memory_mb)
+    n_threads = threads if threads is not None else (os.cpu_count() or 1)
     notes = []
     if ecp:
         notes.append(f"effective core potential '{ecp}' attached for heavy elements")
@@ -99,6 +116,37 @@ def resolve_method(cx: Complex, method: MethodSpec, threads: int | None = None,
                        density_fitting=method.density_fitting, auxbasis=None, solvent=solvent,
                        open_shell=method.open_shell, grid_level=method.grid_level,
                        max_cycles=method.max_cycles, threads=n_threads, memory_mb=memory_mb, notes=notes)
+
+
+#: the smallest memory limit a run can work with (PySCF's own buffers, common practice)
+MIN_MEMORY_MB = 100
+
+
+def check_resources(threads: int | None, memory_mb: int | None) -> None:
+    """InputError unless ``threads`` ≥ 1 and ``memory_mb`` ≥ MIN_MEMORY_MB (None: the defaults)."""
+    if threads is not None and (isinstance(threads, bool) or threads < 1):
+        raise InputError("--threads", f"must be a whole number ≥ 1, got {threads}; leave it out to use all cores")
+    if memory_mb is not None and (isinstance(memory_mb, bool) or memory_mb < MIN_MEMORY_MB):
+        raise InputError("--memory", f"{memory_mb} MB is too small; give at least {MIN_MEMORY_MB} MB")
+
+
+def preflight(spec, threads: int | None = None, memory_mb: int | None = None) -> tuple[Complex, "MethodSetup"]:
+    """Everything that can be validated without an SCF: the complex, the method, the memory.
+
+    Returns (complex, method set-up); InputError (exit 2) on any bad field.
+    """
+    from dsplit.geometry.build import build_complex
+
+    check_resources(threads, memory_mb)
+    cx = build_complex(spec.complex)
+    setup = resolve_method(cx, spec.method, threads=threads, memory_mb=memory_mb)
+    if memory_mb is not None:
+        mol, _ = build_mole(cx, setup, use_symmetry=False)
+        need = memory_estimate_mb(mol, setup)
+        if need > memory_mb:
+            raise InputError("--memory", f"{memory_mb} MB is too small for this run (about {need:.0f} MB "
+                                         "needed); raise --memory or keep density fitting on")
+    return cx, setup
 
 
 def _atom_list(cx: Complex) -> tuple[list, np.ndarray, np.ndarray]:
@@ -122,15 +170,12 @@ def point_charges(cx: Complex) -> tuple[np.ndarray, np.ndarray]:
 def build_mole(cx: Complex, setup: MethodSetup, multiplicity: int | None = None, log_path: Path | None = None,
                use_symmetry: bool = True):
     """PySCF Mole with symmetry when PySCF can set it up (falls back to subgroups, then none)."""
-    from pyscf import gto
 
     atoms, _, pc_charges = _atom_list(cx)
     charge = cx.charge - int(round(pc_charges.sum())) if len(pc_charges) else cx.charge
     spin = (multiplicity or cx.multiplicity) - 1
     common = dict(atom=atoms, basis=setup.basis, ecp=setup.ecp, charge=charge, spin=spin, unit="Angstrom",
                   verbose=4 if log_path else 0, max_memory=setup.memory_mb or 4000)
-    if log_path is not None:
-        common["output"] = str(log_path)
     attempts: list[tuple[object, str | None]] = [(True, None)] + [(True, g) for g in SUBGROUP_FALLBACKS]
     if not use_symmetry:
         attempts = []
@@ -140,15 +185,32 @@ def build_mole(cx: Complex, setup: MethodSetup, multiplicity: int | None = None,
             kw = dict(common, symmetry=sym)
             if sub:
                 kw["symmetry_subgroup"] = sub
-            mol = gto.M(**kw)
+            mol = _mole(kw, log_path)
             if sub:
                 note = f"PySCF could not use the full Abelian subgroup; ran in {mol.groupname}"
             return mol, note
         except Exception as exc:  # PySCF raises KeyError/PointGroupSymmetryError on some ligand sets
             note = f"PySCF symmetry set-up failed ({type(exc).__name__}: {exc})"
             continue
-    mol = gto.M(**dict(common, symmetry=False))
+    mol = _mole(dict(common, symmetry=False), log_path)
     return mol, (note + "; ran without symmetry") if note else "symmetry off on request"
+
+
+def _mole(fields: dict, log_path: Path | None):
+    """A built Mole whose log (PySCF's ``stdout`` of this molecule and its mean fields) is ``log_path``.
+
+    The stream is given before ``build`` so that PySCF never writes the log, or its
+    'output file:' line, on the terminal (``gto.M(output=…)`` would print that line).
+    """
+    from pyscf import gto
+
+    mol = gto.Mole()
+    for key, value in fields.items():
+        setattr(mol, key, value)
+    if log_path is not None:
+        mol.stdout = open(log_path, "w", encoding="utf-8")  # noqa: SIM115 - PySCF keeps writing to it
+    mol.build()
+    return mol
 
 
 def memory_estimate_mb(mol, setup: MethodSetup) -> float:

@@ -1,7 +1,7 @@
 """Report stage: result.json document → report.md, report.html and figures in the run folder.
 
 Reporting never recomputes physics: every number comes from the document (unit changes
-through dsplit.models.units).  Each file is written atomically (temporary file in the
+through dsplit.units).  Each file is written atomically (temporary file in the
 same folder, then os.replace) and the output is deterministic for a given document.
 A figure that cannot be drawn is named in the report instead of aborting the run.
 """

@@ -1,6 +1,6 @@
 """result.json: the schema-versioned record of one run, built from the stage objects.
 
-Energies in reports are eV / cm⁻¹ / kJ mol⁻¹ via dsplit.models.units (CODATA).
+Energies in reports are eV / cm⁻¹ / kJ mol⁻¹ via dsplit.units (CODATA).
 Reporting never recomputes physics: every number here comes from a stage result.
 """
 
@@ -11,7 +11,7 @@ from typing import Any
 
 import numpy as np
 
-from dsplit.models.units import hartree_to_ev
+from dsplit.units import hartree_to_ev
 from dsplit.qc.ladder import STABILITY_TOL
 
 SCHEMA_NAME = "dsplit.result"
@@ -96,14 +96,11 @@ def scf_section(calc) -> dict[str, Any]:
 
 def orbitals_section(calc, table=None) -> list[dict[str, Any]]:
     """Per orbital: index, spin, energy_eV, occupation, irrep_d2h (+ full-group labels and composition)."""
-    from dsplit.qc.engine import _channels
-    from dsplit.qc.targeting import orbital_symmetries
-
     rows = []
-    chans = _channels(calc.mf)
+    chans = calc.channels
     names = ["restricted"] if len(chans) == 1 else ["alpha", "beta"]
     for k, (name, (c, occ, e)) in enumerate(zip(names, chans)):
-        abel = orbital_symmetries(calc.mf, c)
+        abel = calc.abelian_labels(k)
         ch = table.channels[k] if table is not None else None
         for i in range(len(e)):
             row = {"index": i, "spin": name, "energy_eV": hartree_to_ev(float(e[i])), "occupation": float(occ[i]),

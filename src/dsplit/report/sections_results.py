@@ -1,6 +1,6 @@
 """Report sections about the findings: splitting estimators, bands, models, checks, spin states.
 
-Numbers are read from result.json.  Unit changes use dsplit.models.units (CODATA);
+Numbers are read from result.json.  Unit changes use dsplit.units (CODATA);
 a band at wavenumber ν̃ has the vacuum wavelength λ = 1/ν̃ (units.cm1_to_nm).
 The splitting, model and check sections are built only for a converged, verified run.
 """
@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from dsplit.models.units import cm1_to_ev, cm1_to_nm, ev_to_cm1
+from dsplit.units import cm1_to_ev, cm1_to_nm, ev_to_cm1
 from dsplit.report.blocks import (MISSING, Image, Items, Para, Section, Table, is_number, key_values, num, pct, text,
                                   unit, value)
 

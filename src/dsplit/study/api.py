@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, Callable
 
 from dsplit.errors import InputError
 from dsplit.study.expand import Plan, Task, expand
@@ -57,9 +57,14 @@ def plan_rows(plan: Plan, cached: set[str]) -> list[dict[str, Any]]:
     return rows
 
 
-def run_study(plan: Plan, archive: Path, *, workers: int | None = None, threads: int | None = None,
-              executor: str = "local", scheduler: str | None = None, quiet: bool = False) -> StudyOutcome:
-    """Run every task of ``plan`` that the archive does not hold yet."""
+def run_study(plan: Plan, archive: Path, *, compute: Callable, workers: int | None = None,
+              threads: int | None = None, executor: str = "local", scheduler: str | None = None,
+              quiet: bool = False) -> StudyOutcome:
+    """Run every task of ``plan`` that the archive does not hold yet, each through ``compute``.
+
+    ``compute``: the archived compute, ``dsplit.api.compute.compute_archived`` (handed in
+    because the study layer sits below the API layer).
+    """
     from dsplit.archive.paths import remove_stale_tmp
     from dsplit.study.progress import StudyProgress
     from dsplit.study.record import write_plan, write_status
@@ -86,7 +91,7 @@ def run_study(plan: Plan, archive: Path, *, workers: int | None = None, threads:
     try:
         with progress:
             run_tasks(todo, archive, workers=n_workers, threads=n_threads, executor=executor, scheduler=scheduler,
-                      report=report)
+                      report=report, compute=compute)
     except KeyboardInterrupt:
         outcome.interrupted = True
         write_status(archive, plan.study, "interrupted", progress.counts, progress.failed)

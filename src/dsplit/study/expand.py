@@ -3,7 +3,7 @@
 Combinations are the Cartesian product of the axes in the order metals, ligands,
 geometries, isomers, bond_lengths, methods, multiplicities.  Each expanded spec is
 validated like ``dsplit compute`` validates before an SCF (spec checks, then
-``dsplit.compute_api.preflight``: builder, electron count, multiplicity, theory,
+``dsplit.qc.setup.preflight``: builder, electron count, multiplicity, theory,
 basis, solvent); a combination that fails is dropped with the InputError text.
 Names: the study name plus the values of the complex axes (``screen-fe2-aqua6``);
 methods and multiplicities are runs of the same complex, so they share its name.
@@ -124,7 +124,7 @@ def _apply(doc: dict[str, Any], axis: str, v: Any) -> None:
 
 def _validate(doc: dict[str, Any]):
     """(spec, complex) or raise InputError."""
-    from dsplit.compute_api import preflight
+    from dsplit.qc.setup import preflight
     from dsplit.spec import spec_from_dict
 
     spec = spec_from_dict(doc)

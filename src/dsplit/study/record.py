@@ -16,6 +16,7 @@ from typing import Any
 
 from dsplit.archive.paths import STUDIES_DIR, check_name, inside
 from dsplit.errors import InputError
+from dsplit.runfolder import write_json
 from dsplit.study.expand import Plan
 
 
@@ -28,11 +29,9 @@ def _now() -> str:
 
 
 def write_plan(root: Path, plan: Plan) -> Path:
-    from dsplit.compute_api import write_json_atomic
-
     folder = study_dir(root, plan.study)
     folder.mkdir(parents=True, exist_ok=True)
-    write_json_atomic(folder / "plan.json", {**plan.to_dict(), "created": _now()})
+    write_json(folder / "plan.json", {**plan.to_dict(), "created": _now()})
     return folder
 
 
@@ -49,10 +48,8 @@ def read_plan(root: Path, study: str) -> Plan:
 
 
 def write_status(root: Path, study: str, state: str, counts: dict[str, int], failed: dict[str, str]) -> None:
-    from dsplit.compute_api import write_json_atomic
-
     folder = study_dir(root, study)
     folder.mkdir(parents=True, exist_ok=True)
     doc: dict[str, Any] = {"state": state, "updated": _now(), "host": socket.gethostname(), "pid": os.getpid(),
                            "counts": counts, "failed": failed}
-    write_json_atomic(folder / "status.json", doc)
+    write_json(folder / "status.json", doc)

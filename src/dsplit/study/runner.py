@@ -1,7 +1,8 @@
 """Run a study's tasks: serially, on a local process pool, or on a Dask cluster.
 
-Every task goes through ``dsplit.archive.store.compute_archived``, so finished
-runs are cache hits, a run being computed by another process is waited for,
+Every task goes through the archived compute the caller hands in
+(``dsplit.api.compute.compute_archived``, a module-level function so that worker
+processes can import it), so finished runs are cache hits, a run being computed by another process is waited for,
 and results land in the same archive whatever the executor.  With a remote
 scheduler the archive path must be the same shared folder on every worker.
 """
@@ -46,9 +47,9 @@ def parallelism(n_tasks: int, workers: int | None, threads: int | None, cores: i
     return workers, threads
 
 
-def execute_task(spec_doc: dict[str, Any], run_id: str, archive: str, threads: int) -> dict[str, Any]:
+def execute_task(spec_doc: dict[str, Any], run_id: str, archive: str, threads: int,
+                 compute_archived: Callable) -> dict[str, Any]:
     """Run one task through the archive; a summary dict (never raises for a failed run)."""
-    from dsplit.archive.store import compute_archived
     from dsplit.errors import CalculationError
     from dsplit.spec import spec_from_dict
 
@@ -81,12 +82,12 @@ def _init_worker(threads: int) -> None:
         os.environ[var] = str(threads)
 
 
-def _run_serial(tasks, archive: str, threads: int, report: Callable) -> None:
+def _run_serial(tasks, archive: str, threads: int, report: Callable, compute: Callable) -> None:
     for t in tasks:
-        report(execute_task(t.spec, t.run_id, archive, threads))
+        report(execute_task(t.spec, t.run_id, archive, threads, compute))
 
 
-def _run_pool(tasks, archive: str, workers: int, threads: int, report: Callable) -> None:
+def _run_pool(tasks, archive: str, workers: int, threads: int, report: Callable, compute: Callable) -> None:
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
@@ -94,7 +95,7 @@ def _run_pool(tasks, archive: str, workers: int, threads: int, report: Callable)
     pool = ProcessPoolExecutor(max_workers=workers, mp_context=mp.get_context("spawn"),
                                initializer=_init_worker, initargs=(threads,))
     try:
-        futures = [pool.submit(execute_task, t.spec, t.run_id, archive, threads) for t in tasks]
+        futures = [pool.submit(execute_task, t.spec, t.run_id, archive, threads, compute) for t in tasks]
         for f in as_completed(futures):
             report(f.result())
     except BrokenProcessPool as exc:
@@ -129,12 +130,13 @@ def dask_client(scheduler: str | None, workers: int, timeout: str = "15s"):
     return Client(cluster), cluster
 
 
-def _run_dask(tasks, archive: str, workers: int, threads: int, scheduler: str | None, report: Callable) -> None:
+def _run_dask(tasks, archive: str, workers: int, threads: int, scheduler: str | None, report: Callable,
+              compute: Callable) -> None:
     from distributed import as_completed
 
     client, cluster = dask_client(scheduler, workers)
     try:
-        futures = [client.submit(execute_task, t.spec, t.run_id, archive, threads, key=f"dsplit-{t.run_id}",
+        futures = [client.submit(execute_task, t.spec, t.run_id, archive, threads, compute, key=f"dsplit-{t.run_id}",
                                  pure=False) for t in tasks]
         try:
             for f in as_completed(futures):
@@ -149,8 +151,9 @@ def _run_dask(tasks, archive: str, workers: int, threads: int, scheduler: str | 
 
 
 def run_tasks(tasks, archive: Path, *, workers: int, threads: int, executor: str = "local",
-              scheduler: str | None = None, report: Callable[[dict[str, Any]], None]) -> None:
-    """Run ``tasks`` (expand.Task) and call ``report(outcome)`` as each finishes."""
+              scheduler: str | None = None, report: Callable[[dict[str, Any]], None],
+              compute: Callable) -> None:
+    """Run ``tasks`` (expand.Task) with ``compute`` (an archived compute) and call ``report(outcome)``."""
     if executor not in EXECUTORS:
         raise InputError("--executor", f"allowed: {', '.join(EXECUTORS)}")
     if scheduler and executor != "dask":
@@ -158,8 +161,8 @@ def run_tasks(tasks, archive: Path, *, workers: int, threads: int, executor: str
     if not tasks:
         return
     if executor == "dask":
-        _run_dask(tasks, str(archive), workers, threads, scheduler, report)
+        _run_dask(tasks, str(archive), workers, threads, scheduler, report, compute)
     elif workers == 1:
-        _run_serial(tasks, str(archive), threads, report)
+        _run_serial(tasks, str(archive), threads, report, compute)
     else:
-        _run_pool(tasks, str(archive), workers, threads, report)
+        _run_pool(tasks, str(archive), workers, threads, report, compute)

@@ -19,7 +19,7 @@ from dsplit.models import checks as ck
 from dsplit.models.aom import aom_levels
 from dsplit.models.filling import configurations, spin_only_moment
 from dsplit.models.fit import fit_aom
-from dsplit.models.units import hartree_to_ev
+from dsplit.units import hartree_to_ev
 
 
 def _check_doc(c: ck.Check) -> dict[str, Any]:

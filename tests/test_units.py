@@ -1,4 +1,4 @@
-"""Unit conversions (models/units.py) against CODATA recommended values.
+"""Unit conversions (dsplit/units.py) against CODATA recommended values.
 
 CODATA 2018 / 2022 (Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021); Mohr et al., CODATA 2022):
 E_h = 27.21138624598 eV, E_h/hc = 219474.63136 cm⁻¹, E_h·N_A = 2625.4996 kJ/mol,
@@ -7,7 +7,7 @@ E_h = 27.21138624598 eV, E_h/hc = 219474.63136 cm⁻¹, E_h·N_A = 2625.4996 kJ/
 
 import pytest
 
-from dsplit.models import units
+from dsplit import units
 
 REL = 1e-9
 

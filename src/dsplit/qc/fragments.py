@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from dsplit.models.units import hartree_to_ev
+from dsplit.units import hartree_to_ev
 
 
 def _period(z: int) -> int:

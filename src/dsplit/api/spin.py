@@ -22,17 +22,14 @@ functional (same electron count; the engine falls back to atoms when it does not
 from __future__ import annotations
 
 import re
-import shutil
 from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any, Callable
 
 from dsplit.errors import InputError
+from dsplit.models.filling import CONTAMINATION_RULE, spin_contamination
+from dsplit.runfolder import RunOutput, StagedFolder, write_json, write_manifest
 from dsplit.spec import Spec
-
-CONTAMINATION_RELATIVE = 0.10
-CONTAMINATION_FLOOR = 0.10
-
 
 @dataclass
 class StateRun:
@@ -57,19 +54,11 @@ class StateRun:
         return self.calculation.energy_hartree if self.calculation is not None and self.calculation.converged else None
 
 
-def spin_contamination(spin_square: float, multiplicity: int) -> tuple[float, float, bool]:
-    """(S(S+1), ⟨S²⟩ − S(S+1), flagged) with the threshold of the module docstring."""
-    s = (multiplicity - 1) / 2
-    expected = s * (s + 1)
-    dev = spin_square - expected
-    return expected, dev, abs(dev) > max(CONTAMINATION_FLOOR, CONTAMINATION_RELATIVE * expected)
-
-
 def relative_energies(delta_hartree: float) -> dict[str, float]:
-    """ΔE in kJ/mol, kcal/mol, cm⁻¹, eV (CODATA via models.units; 1 cal = scipy.constants.calorie J)."""
+    """ΔE in kJ/mol, kcal/mol, cm⁻¹, eV (CODATA via dsplit.units; 1 cal = scipy.constants.calorie J)."""
     from scipy.constants import calorie
 
-    from dsplit.models.units import hartree_to_cm1, hartree_to_ev, hartree_to_kjmol
+    from dsplit.units import hartree_to_cm1, hartree_to_ev, hartree_to_kjmol
 
     kj = hartree_to_kjmol(delta_hartree)
     return {"relative_kJmol": kj, "relative_kcalmol": kj / calorie, "relative_cm1": hartree_to_cm1(delta_hartree),
@@ -221,7 +210,7 @@ def _state_json(run: StateRun, lowest: float | None) -> dict[str, Any]:
 def ladder_json(runs: list[StateRun], cx) -> dict[str, Any]:
     """spin_states, ground_multiplicity, functional_spread, spin_prediction and the check."""
     from dsplit.models.checks import spin_state_check
-    from dsplit.models.units import hartree_to_kjmol
+    from dsplit.units import hartree_to_kjmol
 
     theories = list(dict.fromkeys(r.theory for r in runs))
     states, spread, grounds = [], [], {}
@@ -244,8 +233,7 @@ def ladder_json(runs: list[StateRun], cx) -> dict[str, Any]:
         "spin_prediction": {"multiplicity": pred, "reason": why, "source": "spectrochemical default rule "
                             "(dsplit.chem.spin_default; rules of thumb, common practice)"},
         "functional_spread": spread if len(theories) > 1 else [],
-        "spin_contamination_rule": f"|⟨S²⟩ − S(S+1)| > max({CONTAMINATION_FLOOR}, "
-                                   f"{CONTAMINATION_RELATIVE:.0%} of S(S+1))",
+        "spin_contamination_rule": CONTAMINATION_RULE,
         "checks": [{"name": check.name, "verdict": check.verdict, "numbers": check.numbers, "detail": check.detail}],
     }
     if ground is None:
@@ -258,27 +246,22 @@ def _main_run(runs: list[StateRun], ground: int | None) -> StateRun:
     return next((r for r in first if r.multiplicity == ground), None) or next((r for r in first if r.ok), first[0])
 
 
-def _temp_folder(out_dir: Path) -> Path:
-    """The run is built here, next to ``out_dir``, and renamed into place when finished."""
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    from dsplit.compute_api import temporary_run_folder
-
-    return temporary_run_folder(out_dir)
-
-
-def _finish(spec: Spec, cx, calc, extra: dict[str, Any], tmp_dir: Path, out_dir: Path, write_reports: bool):
-    """result.json + spec.json + geometry.xyz (+ reports) into tmp_dir, then rename into place."""
-    from dsplit.build_api import write_geometry
-    from dsplit.compute_api import _replace_dir, _write_reports, write_json_atomic
+def _finish(spec: Spec, cx, calc, extra: dict[str, Any], folder: Path, write_reports: bool,
+            kind: str, code: int) -> dict[str, Any]:
+    """result.json + spec.json + geometry.xyz (+ reports) and the manifest, into the staging folder."""
+    from dsplit.api.build import write_geometry
     from dsplit.report.result import build_result
 
     doc = build_result(spec, cx, calc, None, extra)
-    write_geometry(cx, tmp_dir / "geometry.xyz")
-    write_json_atomic(tmp_dir / "spec.json", spec.normalised())
-    write_json_atomic(tmp_dir / "result.json", doc)
+    write_geometry(cx, folder / "geometry.xyz")
+    write_json(folder / "spec.json", spec.normalised())
+    write_json(folder / "result.json", doc)
     if write_reports:
-        _write_reports(doc, tmp_dir)  # dsplit.report.render when present (ImportError guarded there)
-    _replace_dir(tmp_dir, out_dir)
+        from dsplit.report.render import write_reports as render
+
+        render(doc, folder)
+    write_manifest(folder, kind=kind, name=spec.name, spec_hash=doc.get("spec_hash"), exit_code=code,
+                   status="verified" if code == 0 else "not verified")
     return doc
 
 
@@ -286,10 +269,9 @@ def spin_states(spec: Spec, out_dir: Path, *, multiplicities: str | list[int] | 
                 functionals: str | list[str] | None = None, optimize: bool = False, reuse: bool = True,
                 threads: int | None = None, memory_mb: int | None = None, progress: Callable | None = None,
                 threshold: float | None = None, max_steps: int | None = None, write_reports: bool = True):
-    """The spin-state ladder of ``spec``; returns compute_api.RunOutput (exit 3 if any state failed)."""
-    from dsplit.compute_api import RunOutput, preflight
+    """The spin-state ladder of ``spec``; returns a RunOutput (exit 3 if any state failed)."""
     from dsplit.qc.optimize import check_optimizable
-    from dsplit.qc.setup import resolve_method
+    from dsplit.qc.setup import preflight, resolve_method
 
     out_dir = Path(out_dir)
     cx, setup = preflight(spec, threads, memory_mb)
@@ -301,20 +283,17 @@ def spin_states(spec: Spec, out_dir: Path, *, multiplicities: str | list[int] | 
               for n in names]
     if optimize:
         check_optimizable(cx, setup, full=False)
-    tmp_dir = _temp_folder(out_dir)
-    try:
-        runs = run_ladder(cx, setups, tmp_dir, mults, optimize=optimize, reuse=reuse, progress=progress,
+    with StagedFolder(out_dir) as stage:
+        runs = run_ladder(cx, setups, stage.path, mults, optimize=optimize, reuse=reuse, progress=progress,
                           threshold=threshold, max_steps=max_steps)
         extra = ladder_json(runs, cx)
         main = _main_run(runs, extra["ground_multiplicity"])
         extra["main_state"] = {"theory": main.theory, "multiplicity": main.multiplicity, "folder": main.folder}
         main_cx = main.optimization.final if main.optimization is not None else cx
-        doc = _finish(spec, main_cx, main.calculation, extra, tmp_dir, out_dir, write_reports)
-    except BaseException:
-        shutil.rmtree(tmp_dir, ignore_errors=True)
-        raise
-    code = 0 if all(r.ok for r in runs) else 3
-    return RunOutput(doc, out_dir, code)
+        code = 0 if all(r.ok for r in runs) else 3
+        doc = _finish(spec, main_cx, main.calculation, extra, stage.path, write_reports, "spin-states", code)
+        target = stage.commit()
+    return RunOutput(doc, target, code)
 
 
 def optimize_geometry(spec: Spec, out_dir: Path, *, full: bool = False, threshold: float | None = None,
@@ -322,26 +301,23 @@ def optimize_geometry(spec: Spec, out_dir: Path, *, full: bool = False, threshol
                       progress: Callable | None = None, start_from: Path | None = None,
                       write_reports: bool = True):
     """Optimise ``spec``'s complex in its spec/default state; RunOutput (exit 3 if not converged/verified)."""
-    from dsplit.build_api import write_geometry
-    from dsplit.compute_api import RunOutput, preflight
+    from dsplit.api.build import write_geometry
     from dsplit.errors import CalculationError
     from dsplit.qc.optimize import check_optimizable, optimize
+    from dsplit.qc.setup import preflight
 
     out_dir = Path(out_dir)
     cx, setup = preflight(spec, threads, memory_mb)
     check_optimizable(cx, setup, full=full)
-    tmp_dir = _temp_folder(out_dir)
     kw = {k: v for k, v in (("threshold", threshold), ("max_steps", max_steps)) if v is not None}
-    try:
-        res = optimize(cx, setup, tmp_dir, full=full, start_from=start_from, progress=progress, **kw)
+    with StagedFolder(out_dir) as stage:
+        res = optimize(cx, setup, stage.path, full=full, start_from=start_from, progress=progress, **kw)
         if res.calculation is None:
             raise CalculationError(f"geometry optimisation stopped before any SCF: {res.failure}")
-        write_geometry(res.initial, tmp_dir / "initial_geometry.xyz")
-        doc = _finish(spec, res.final, res.calculation, {"optimization": res.to_json()}, tmp_dir, out_dir,
-                      write_reports)
-    except BaseException:
-        shutil.rmtree(tmp_dir, ignore_errors=True)
-        raise
-    code = 0 if res.converged and res.calculation.ok else 3
-    return RunOutput(doc, out_dir, code)
+        write_geometry(res.initial, stage.path / "initial_geometry.xyz")
+        code = 0 if res.converged and res.calculation.ok else 3
+        doc = _finish(spec, res.final, res.calculation, {"optimization": res.to_json()}, stage.path, write_reports,
+                      "optimize", code)
+        target = stage.commit()
+    return RunOutput(doc, target, code)
 

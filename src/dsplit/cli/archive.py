@@ -1,7 +1,5 @@
 """``dsplit archive …`` (list, show, compare, verify, rebuild-index) and ``dsplit study``.
 
-Click objects to register in dsplit.cli: ``archive_group`` and ``study_cmd``;
-``archive_options`` adds ``--archive/--recompute`` to other commands.
 Heavy modules are imported inside the commands.
 """
 
@@ -11,16 +9,9 @@ import sys
 
 import click
 
-from dsplit.cli import handles_errors
+from dsplit.cli.options import ARCHIVE_HELP, error_log_here, handles_errors
 
-ARCHIVE_HELP = "Archive folder (default: $DSPLIT_ARCHIVE, else ./dsplit-archive)."
 FORMATS = ("text", "csv", "markdown", "html", "json")
-
-
-def archive_options(func):
-    """``--archive DIR`` and ``--recompute`` for commands that archive their runs."""
-    func = click.option("--recompute", is_flag=True, help="Compute again even if the archive holds this run.")(func)
-    return click.option("--archive", "archive_dir", type=click.Path(), default=None, help=ARCHIVE_HELP)(func)
 
 
 _archive_dir = click.option("--archive", "archive_dir", type=click.Path(), default=None, help=ARCHIVE_HELP)
@@ -28,10 +19,13 @@ _format = click.option("--format", "fmt", type=click.Choice(FORMATS), default="t
                        help="Output format.")
 
 
-def _root(archive_dir, create: bool = False):
-    from dsplit.archive.paths import archive_root
+def _root(archive_dir):
+    """An existing archive (InputError when the folder holds no dsplit archive)."""
+    from dsplit.archive.paths import existing_archive
 
-    return archive_root(archive_dir, create=create)
+    root = existing_archive(archive_dir)
+    error_log_here(root)
+    return root
 
 
 def _emit(text: str, output: str | None) -> None:
@@ -146,8 +140,11 @@ def verify_cmd(archive_dir) -> None:
 def rebuild_index_cmd(archive_dir) -> None:
     """Rewrite index.db from the run folders (damaged runs are left out and listed)."""
     from dsplit.archive.index import rebuild
+    from dsplit.archive.store import check_writable_archive
 
-    n, skipped = rebuild(_root(archive_dir))
+    root = _root(archive_dir)
+    check_writable_archive(root, check_index=False)
+    n, skipped = rebuild(root)
     for folder, why in skipped:
         click.echo(f"skipped {folder}: {why}", err=True)
     click.echo(f"index.db: {n} run(s)")
@@ -186,13 +183,24 @@ def study_cmd(study_file, archive_dir, dry_run, resume, workers, threads, execut
     """Run a batch STUDY_FILE (TOML): a base spec and axes to vary, into the archive."""
     import json
 
+    from dsplit.api.compute import compute_archived
     from dsplit.archive.paths import archive_root
+    from dsplit.archive.store import check_writable_archive
+    from dsplit.qc.setup import check_resources
     from dsplit.study.api import cached_tasks, plan_study, run_study, summary_rows
     from dsplit.study.studyfile import load_study
 
-    root = archive_root(archive_dir, create=not dry_run, must_exist=False)
-    defaults = load_study(study_file).run
+    if workers is not None and workers < 1:
+        from dsplit.errors import InputError
+
+        raise InputError("--workers", f"must be a whole number ≥ 1, got {workers}; leave it out to fit the machine")
+    check_resources(threads, None)
+    defaults = load_study(study_file).run  # a missing or bad study file fails before any folder is made
+    root = archive_root(archive_dir, create=False, must_exist=False)
     plan = plan_study(study_file, root, resume=resume)
+    if not dry_run:
+        root = check_writable_archive(root)
+        error_log_here(root)
     cached = {t.run_id for t in cached_tasks(plan, root, reindex=not dry_run)} if root.is_dir() else set()
     if dry_run:
         if as_json:
@@ -202,7 +210,7 @@ def study_cmd(study_file, archive_dir, dry_run, resume, workers, threads, execut
         return
     if not quiet and not as_json:
         _print_plan(plan, cached)
-    out = run_study(plan, root, workers=workers or defaults.get("workers"), threads=threads or defaults.get("threads"),
+    out = run_study(plan, root, compute=compute_archived, workers=workers or defaults.get("workers"), threads=threads or defaults.get("threads"),
                     executor=executor or defaults.get("executor", "local"),
                     scheduler=scheduler or defaults.get("scheduler"), quiet=quiet or as_json)
     rows = summary_rows(out)
@@ -218,8 +226,9 @@ def study_cmd(study_file, archive_dir, dry_run, resume, workers, threads, execut
                                  ("state", "state")], "text", title="\nsummary"))
     n_done = sum(r["state"] in ("computed", "cached", "not verified", "in archive") for r in rows)
     if out.interrupted:
+        again = f" --archive {archive_dir}" if archive_dir else ""
         click.echo(f"dsplit: study interrupted: {n_done} of {len(rows)} run(s) finished; "
-                   f"finish with: dsplit study {study_file} --resume", err=True)
+                   f"finish with: dsplit study {study_file}{again} --resume", err=True)
     else:
         click.echo(f"study {plan.study}: {n_done} of {len(rows)} run(s) in {root}", err=True)
         for r in rows:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import os
-import tempfile
 from pathlib import Path
 from typing import Any
 
@@ -12,6 +11,7 @@ from dsplit.errors import InputError
 from dsplit.geometry.build import ComplexRequest, build_complex
 from dsplit.geometry.isomers import enumerate_isomers
 from dsplit.geometry.polyhedra import polyhedron
+from dsplit.runfolder import write_with
 
 
 def build_summary(cx: Complex) -> dict[str, Any]:
@@ -74,7 +74,7 @@ def geometry_format(out: Path) -> str:
 
 
 def write_geometry(cx: Complex, path: str | os.PathLike) -> Path:
-    """Write the geometry atomically (temp file + rename); format from the extension."""
+    """Write the geometry whole (dsplit.runfolder.write_with); format from the extension."""
     import ase.io
 
     out = Path(path)
@@ -82,45 +82,4 @@ def write_geometry(cx: Complex, path: str | os.PathLike) -> Path:
         raise InputError("--output", f"'{out}' is a folder; give a file name such as {cx.name}.xyz")
     fmt = geometry_format(out)
     out.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=out.parent, prefix=f".{out.name}.", suffix=".part")
-    os.close(fd)
-    try:
-        ase.io.write(tmp, cx.atoms, format=fmt)
-        os.replace(tmp, out)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-    return out
-
-
-def print_summary(summary: dict[str, Any]) -> None:
-    """Human summary table (rich)."""
-    from rich.table import Table
-
-    from dsplit.console import output_console
-
-    t = Table(title=f"{summary['name']}: {summary['formula']}", show_header=False)
-    t.add_column("what", style="bold")
-    t.add_column("value")
-    dist = ", ".join(f"{k} {v:.3f} Å" for k, v in summary["metal_ligand_distances"].items())
-    rows = [
-        ("metal", f"{summary['metal']}({summary['oxidation_state']:+d}), d^{summary['d_electrons']}"),
-        ("charge", f"{summary['charge']:+d}"),
-        ("electrons", f"{summary['total_electrons']} total; ionic valence count {summary['ionic_valence_electrons']}"),
-        ("geometry", f"{summary['geometry']} ({summary['isomer']})"),
-        ("donor-set group", summary["point_group"]),
-        ("exact group", summary["exact_point_group"]),
-        ("d sets (low → high)", " < ".join(s["label"] for s in summary["d_sets"])),
-        ("multiplicities", ", ".join(map(str, summary["multiplicities"]))),
-        ("multiplicity", f"{summary['multiplicity']} — {summary['multiplicity_source']}"),
-        ("configuration", summary["configuration"]),
-        ("high / low spin", f"{summary['high_spin_configuration']} / {summary['low_spin_configuration']}"),
-        ("M–L", dist),
-        ("written", summary["output"]),
-    ]
-    for k, v in rows:
-        t.add_row(k, str(v))
-    c = output_console()
-    c.print(t)
-    for note in summary["notes"]:
-        c.print(f"note: {note}")
+    return write_with(out, lambda tmp: ase.io.write(str(tmp), cx.atoms, format=fmt))

@@ -1,6 +1,6 @@
-"""Click commands ``spin-states`` and ``optimize`` (registered by the lead in cli.py).
+"""``dsplit spin-states`` and ``dsplit optimize``.
 
-Thin shells over dsplit.spin_api: parse, call, print, exit codes (0 fine, 2 bad input
+Thin shells over dsplit.api.spin: parse, call, print, exit codes (0 fine, 2 bad input
 before any SCF, 3 a state or an optimisation that did not converge / verify).
 Heavy modules are imported inside the commands.
 """
@@ -11,15 +11,8 @@ import sys
 
 import click
 
-from dsplit.cli import ProgressLine, _method_overrides, _overrides, complex_options, handles_errors, \
-    load_full_spec, method_options
-
-
-def _spec(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
-          theory, basis, solvent, density_fitting, open_shell):
-    return load_full_spec(spec, _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length,
-                                           multiplicity),
-                          _method_overrides(theory, basis, solvent, density_fitting, open_shell))
+from dsplit.cli.options import ProgressLine, error_log_here, handles_errors, print_json, resource_options, \
+    spec_options
 
 
 def _fmt(x, digits: int) -> str:
@@ -60,30 +53,27 @@ def _print_ladder(doc: dict, out_dir) -> None:
 
 
 @click.command("spin-states")
-@click.argument("spec", required=False, type=click.Path(dir_okay=False))
-@complex_options
-@method_options
+@handles_errors
+@spec_options()
+@resource_options
 @click.option("--multiplicities", help="Comma-separated 2S+1 values (default: every one allowed for dⁿ).")
 @click.option("--functionals", help="Comma-separated functionals for a spread, e.g. HF,PBE,B3LYP,TPSSh.")
 @click.option("--optimize", "optimize_states", is_flag=True, help="Optimise the metal–ligand distances per state.")
 @click.option("--no-reuse", is_flag=True, help="Start every SCF from atoms instead of a neighbour's checkpoint.")
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), help="Run folder (default ./NAME-spin-states).")
+@click.option("--out", "out_dir", type=click.Path(), help="Run folder (default ./NAME-spin-states).")
 @click.option("--quiet", is_flag=True, help="No progress line, no table.")
 @click.option("--json", "as_json", is_flag=True, help="Print result.json to stdout.")
-@handles_errors
-def spin_states_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
-                    theory, basis, solvent, density_fitting, open_shell, threads, memory_mb, multiplicities,
-                    functionals, optimize_states, no_reuse, out_dir, quiet, as_json) -> None:
+def spin_states_cmd(spec, threads, memory_mb, multiplicities, functionals, optimize_states, no_reuse, out_dir,
+                    quiet, as_json) -> None:
     """Spin-state ladder of SPEC: every allowed 2S+1, relative energies, ⟨S²⟩, ground state vs ligand field."""
     from pathlib import Path
 
-    from dsplit.spin_api import spin_states
+    from dsplit.api.spin import spin_states
 
-    s = _spec(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
-              theory, basis, solvent, density_fitting, open_shell)
-    out = Path(out_dir) if out_dir else Path(f"{s.name}-spin-states")
+    out = Path(out_dir) if out_dir else Path(f"{spec.name}-spin-states")
+    error_log_here(out.absolute().parent)
     with ProgressLine(quiet or as_json) as line:
-        run = spin_states(s, out, multiplicities=multiplicities, functionals=functionals, optimize=optimize_states,
+        run = spin_states(spec, out, multiplicities=multiplicities, functionals=functionals, optimize=optimize_states,
                           reuse=not no_reuse, threads=threads, memory_mb=memory_mb, progress=line)
     _emit(run, as_json, quiet, _print_ladder)
 
@@ -109,9 +99,7 @@ def _print_optimization(doc: dict, out_dir) -> None:
 
 def _emit(run, as_json: bool, quiet: bool, printer) -> None:
     if as_json:
-        import json
-
-        click.echo(json.dumps(run.result, indent=2, ensure_ascii=False))
+        print_json(run.result)
     elif not quiet:
         printer(run.result, run.out_dir)
     if run.exit_code:
@@ -123,35 +111,32 @@ def _emit(run, as_json: bool, quiet: bool, printer) -> None:
 
 
 @click.command("optimize")
-@click.argument("spec", required=False, type=click.Path(dir_okay=False))
-@complex_options
-@method_options
+@handles_errors
+@spec_options()
+@resource_options
 @click.option("--full", is_flag=True, help="Unconstrained optimisation (ASE BFGS) instead of symmetric distances.")
 @click.option("--gradient-threshold", type=float, help="Convergence threshold in Hartree/Å (default 5e-4).")
 @click.option("--max-steps", type=int, help="Step limit (default 25).")
 @click.option("--start-from", type=click.Path(exists=True, dir_okay=False), help="A checkpoint (.chk) to start from.")
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), help="Run folder (default ./NAME-optimize).")
+@click.option("--out", "out_dir", type=click.Path(), help="Run folder (default ./NAME-optimize).")
 @click.option("--quiet", is_flag=True, help="No progress line, no summary.")
 @click.option("--json", "as_json", is_flag=True, help="Print result.json to stdout.")
-@handles_errors
-def optimize_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
-                 theory, basis, solvent, density_fitting, open_shell, threads, memory_mb, full, gradient_threshold,
-                 max_steps, start_from, out_dir, quiet, as_json) -> None:
+def optimize_cmd(spec, threads, memory_mb, full, gradient_threshold, max_steps, start_from, out_dir, quiet,
+                 as_json) -> None:
     """Optimise SPEC's geometry: M–L distances keeping the point group (default) or every atom (--full)."""
     from pathlib import Path
 
+    from dsplit.api.spin import optimize_geometry
     from dsplit.errors import InputError
-    from dsplit.spin_api import optimize_geometry
 
     if gradient_threshold is not None and gradient_threshold <= 0:
         raise InputError("--gradient-threshold", "must be > 0 (Hartree/Å)")
     if max_steps is not None and max_steps < 1:
         raise InputError("--max-steps", "must be ≥ 1")
-    s = _spec(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
-              theory, basis, solvent, density_fitting, open_shell)
-    out = Path(out_dir) if out_dir else Path(f"{s.name}-optimize")
+    out = Path(out_dir) if out_dir else Path(f"{spec.name}-optimize")
+    error_log_here(out.absolute().parent)
     with ProgressLine(quiet or as_json) as line:
-        run = optimize_geometry(s, out, full=full, threshold=gradient_threshold, max_steps=max_steps,
+        run = optimize_geometry(spec, out, full=full, threshold=gradient_threshold, max_steps=max_steps,
                                 threads=threads, memory_mb=memory_mb, progress=line,
                                 start_from=Path(start_from) if start_from else None)
     _emit(run, as_json, quiet, _print_optimization)
