@@ -4,6 +4,8 @@ Values in cm⁻¹ as commonly tabulated from the free-ion spectra (e.g. Lever, I
 Electronic Spectroscopy, 2nd ed., Elsevier 1984, table of free-ion Racah parameters; Griffith,
 The Theory of Transition-Metal Ions, 1961) — from memory, rounded; treat them as ±5 %.
 d¹ and d⁹ ions have no interelectronic repulsion within dⁿ, so B (and β) is not defined there.
+Fe³⁺ and Co³⁺ are left out on purpose: the values recalled for them did not follow the rise of B
+with charge seen for V, Cr and Mn, so no number is better than a doubtful one (β is then None).
 
 The table lives in models/ (not chem/) because the band fit in models/ needs it and chem/ sits
 above models/ in the import order.
@@ -21,9 +23,7 @@ FREE_ION_B_CM1: dict[tuple[str, int], float] = {
     ("Mn", 2): 960.0,
     ("Mn", 3): 1140.0,
     ("Fe", 2): 1058.0,
-    ("Fe", 3): 1015.0,
     ("Co", 2): 1115.0,
-    ("Co", 3): 1065.0,
     ("Ni", 2): 1080.0,
 }
 

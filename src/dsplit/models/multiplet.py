@@ -35,8 +35,8 @@ from typing import Any
 import numpy as np
 
 from dsplit.models.aom import _Q, D_ORBITALS
-from dsplit.models.determinants import (configuration_of, one_body_matrix, rotate_ci, sector_operators,
-                                        spin_counts, spin_squared, string_minors, strings, two_body_matrix)
+from dsplit.models.determinants import (configuration_of, sector_operators, spin_counts, spin_squared,
+                                        string_minors, strings, two_body_matrix)
 from dsplit.models.racah import racah_eri_basis
 
 #: Upper-triangle index pairs (p ≤ q) of the 15 unique elements of h, row by row.
@@ -315,20 +315,34 @@ def _orbital_frame(h: np.ndarray, d_sets: Sequence | None,
     return v, tuple(member), labels
 
 
-def _configurations(vectors: np.ndarray, d_count: int, ms2: int, frame: tuple) -> tuple[tuple[str, float], ...]:
-    v, member, labels = frame
-    n_alpha, n_beta = spin_counts(d_count, ms2)
-    weights: dict[tuple[int, ...], float] = {}
-    sa, sb = strings(n_alpha), strings(n_beta)
-    for vec in vectors:
-        c = rotate_ci(vec, v.T, d_count, ms2)
-        for i, a in enumerate(sa):
-            for j, b in enumerate(sb):
-                key = configuration_of(a, b, member, len(labels))
-                weights[key] = weights.get(key, 0.0) + c[i, j] ** 2 / len(vectors)
-    ranked = sorted(weights.items(), key=lambda kv: -kv[1])
-    return tuple((" ".join(f"{lab}^{n}" for lab, n in zip(labels, occ)), round(float(w), 4))
-                 for occ, w in ranked if w >= 0.05)
+class _ConfigurationCounter:
+    """Weights of the d-set configurations of CI vectors, in the orbital frame of _orbital_frame."""
+
+    def __init__(self, frame: tuple, d_count: int):
+        self.v, self.member, self.labels = frame
+        self.d_count = d_count
+        self._cache: dict[int, tuple] = {}
+
+    def _setup(self, ms2: int) -> tuple:
+        if ms2 not in self._cache:
+            n_alpha, n_beta = spin_counts(self.d_count, ms2)
+            keys = [configuration_of(a, b, self.member, len(self.labels))
+                    for a in strings(n_alpha) for b in strings(n_beta)]
+            distinct = sorted(set(keys), key=keys.index)
+            index = np.array([distinct.index(k) for k in keys])
+            minors = (string_minors(self.v.T, n_alpha), string_minors(self.v.T, n_beta))
+            self._cache[ms2] = (distinct, index, minors)
+        return self._cache[ms2]
+
+    def __call__(self, vectors: np.ndarray, ms2: int) -> tuple[tuple[str, float], ...]:
+        distinct, index, (ma, mb) = self._setup(ms2)
+        weights = np.zeros(len(distinct))
+        for vec in vectors:
+            c = ma @ vec @ mb.T  # rotate_ci with U = Vᵀ (frame d → the orbitals of the sets)
+            weights += np.bincount(index, weights=c.ravel() ** 2, minlength=len(distinct)) / len(vectors)
+        order = np.argsort(-weights, kind="stable")
+        return tuple((" ".join(f"{lab}^{n}" for lab, n in zip(self.labels, distinct[k])), round(float(weights[k]), 4))
+                     for k in order if weights[k] >= 0.05)
 
 
 def solve_blocks(h: np.ndarray, b: float, c: float, d_count: int, multiplicity: int,
@@ -363,7 +377,7 @@ def multiplet_states(h: np.ndarray, b: float, c: float, d_count: int, *,
     bad = set(mults) - set(allowed_multiplicities(d_count))
     if bad:
         raise ValueError(f"multiplicities {sorted(bad)} do not occur for d^{d_count}")
-    frame = _orbital_frame(h, d_sets, symmetry)
+    count = _ConfigurationCounter(_orbital_frame(h, d_sets, symmetry), d_count)
     found = []
     for m in mults:
         for energy, block, vecs in solve_blocks(h, b, c, d_count, m, symmetry):
@@ -373,6 +387,6 @@ def multiplet_states(h: np.ndarray, b: float, c: float, d_count: int, *,
     e0, ground = found[0][0], found[0][1].multiplicity
     terms = tuple(Term(energy=e - e0, absolute_energy=e, multiplicity=blk.multiplicity, irrep=blk.irrep,
                        degeneracy=blk.dim, spin_allowed=blk.multiplicity == ground,
-                       configurations=_configurations(vecs, d_count, blk.multiplicity - 1, frame), vectors=vecs)
+                       configurations=count(vecs, blk.multiplicity - 1), vectors=vecs)
                   for e, blk, vecs in found)
     return TermSpectrum(d_count, None if symmetry is None else symmetry.name, terms, float(b), float(c))
