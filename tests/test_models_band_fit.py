@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import numpy as np
 import pytest
 
 from dsplit.errors import InputError
@@ -17,7 +16,8 @@ TD = polyhedron_shape(polyhedron("tetrahedral"))
 
 
 def test_hexaaquachromium_bands():
-    # [Cr(H2O)6]3+: ν1 ≈ 17,400, ν2 ≈ 24,600 cm⁻¹ (Lever, Inorganic Electronic Spectroscopy, 1984 — from memory);
+    # [Cr(H2O)6]3+: ν1 ≈ 17,400, ν2 ≈ 24,600 cm⁻¹ (Lever, Inorganic Electronic Spectroscopy, 1984 —
+    # from memory);
     # ν1 = Δ and ν2 from the Tanabe–Sugano closed form give B = 728.6 cm⁻¹; textbooks quote B ≈ 725 cm⁻¹ and
     # β ≈ 0.79 against free-ion Cr3+ B = 918 cm⁻¹ (from memory).
     fit = fit_bands(3, OH, [17400, 24600], metal="Cr", oxidation_state=3)

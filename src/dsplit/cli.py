@@ -47,6 +47,7 @@ class LazyGroup(click.Group):
         "optimize": ("dsplit.cli_spin", "optimize_cmd"),
         "study": ("dsplit.cli_archive", "study_cmd"),
         "archive": ("dsplit.cli_archive", "archive_group"),
+        "terms": ("dsplit.cli_terms", "terms_cmd"),
     }
 
     def list_commands(self, ctx):

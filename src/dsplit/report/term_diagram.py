@@ -71,7 +71,7 @@ def draw_term_diagram(curves: TermCurves, *, point: float | None = None, bands_c
                         color=MULTIPLICITY_COLOURS.get(c.multiplicity, INK))
         if point is not None:
             ax.axvline(point, color=INK, linestyle="--", linewidth=0.8)
-            ax.annotate(f"this complex: Δ/B = {point:.1f}", (point, 0.0), xytext=(3, 4),
+            ax.annotate(f"this complex: Δ/B = {point:.1f}", (point, 0.0), xytext=(-10, 4),
                         textcoords="offset points", fontsize=7, color=INK, rotation=90, va="bottom")
         if bands_cm1 and b_cm1:
             yb = np.asarray(bands_cm1, dtype=float) / b_cm1
