@@ -105,6 +105,22 @@ def test_nevpt2_energies_are_used_when_asked():
     assert fit_ligand_field(rec, OH_SETS, energy="casscf").delta_cm1 == pytest.approx(17400.0, rel=1e-9)
 
 
+def test_describe_states_labels_irreps_and_configurations():
+    from dsplit.analysis.multiplet_fit import describe_states
+    from dsplit.models.multiplet import frame_symmetry
+
+    shape = polyhedron_shape(OCT)
+    rec = _record(shape.matrix(17400.0), 729.0, 3300.0, 3, (2, 4), u=_random_orthogonal(4))
+    model = multiplet_states(shape.matrix(17400.0), 729.0, 3300.0, 3, symmetry=shape.symmetry, d_sets=OH_SETS)
+    expected = [(t.multiplicity, t.irrep, round(t.energy, 3)) for t in model.terms for _ in range(t.degeneracy)]
+    got = describe_states(rec, OH_SETS, frame_symmetry("Oh"), energy="casscf")
+    assert sorted((s.multiplicity, s.irrep, round(s.energy_cm1, 3)) for s in got) == sorted(expected)
+    first_band = [s for s in got if s.multiplicity == 4 and s.irrep == "T2g"]
+    assert len(first_band) == 3 and first_band[0].configurations[0] == ("t2g^2 eg^1", 1.0)
+    assert all(abs(s.d_weight - 1.0) < 1e-10 for s in got)
+    assert got[0].to_dict("CASSCF")["method"] == "CASSCF"
+
+
 def test_refusals():
     shape = polyhedron_shape(OCT)
     rec = _record(shape.matrix(17400.0), 729.0, 3300.0, 3, (4,))

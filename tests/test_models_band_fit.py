@@ -20,7 +20,7 @@ def test_hexaaquachromium_bands():
     # from memory);
     # ν1 = Δ and ν2 from the Tanabe–Sugano closed form give B = 728.6 cm⁻¹; textbooks quote B ≈ 725 cm⁻¹ and
     # β ≈ 0.79 against free-ion Cr3+ B = 918 cm⁻¹ (from memory).
-    fit = fit_bands(3, OH, [17400, 24600], metal="Cr", oxidation_state=3)
+    fit = fit_bands(3, polyhedron("octahedral"), [17400, 24600], metal="Cr", oxidation_state=3)
     assert fit.delta_cm1 == pytest.approx(17400, abs=1)
     assert fit.b_cm1 == pytest.approx(725, abs=15)
     assert fit.beta == pytest.approx(0.79, abs=0.02)

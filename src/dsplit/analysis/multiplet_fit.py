@@ -13,6 +13,12 @@ Output in cm⁻¹: the traceless 5×5 h, its five eigenvalues (the fitted d leve
 each level's d set (the set whose orbitals hold most of its eigenvector, each set filled to its
 size), set means, Δ = highest − lowest set mean when the geometry has two sets, B, C, β, and the
 RMS deviation of the fitted model's state energies from the computed ones.
+
+describe_states labels each computed state: energy above the lowest state, the irrep of its
+degenerate group (states of one block within ``degeneracy_cm1`` at CASSCF; character
+χ(g) = tr(Ψ̃ᵀ R(g) Ψ̃) of the group's Löwdin-orthonormalised frame-d vectors, reduced with the
+point group's table; None when the characters do not reduce to whole irreps, i.e. the
+calculation broke the symmetry) and its d-set configuration weights.
 """
 
 from __future__ import annotations
@@ -26,11 +32,13 @@ import numpy as np
 from dsplit.models.aom import D_ORBITALS
 from dsplit.models.determinants import rotate_ci
 from dsplit.models.free_ion import nephelauxetic_ratio
-from dsplit.models.multiplet import assign_to_sets
+from dsplit.models.multiplet import (FrameSymmetry, assign_to_sets, configuration_weights,
+                                     determinant_representation)
 from dsplit.models.multiplet_lsq import StateBlock, UnderdeterminedFit, fit_effective_hamiltonian
 from dsplit.models.units import hartree_to_cm1
 
-__all__ = ["LigandFieldFit", "UnderdeterminedFit", "fit_ligand_field", "record_blocks"]
+__all__ = ["ComputedState", "LigandFieldFit", "UnderdeterminedFit", "describe_states", "fit_ligand_field",
+           "record_blocks"]
 
 #: an active orbital with less metal-d weight than this is flagged (common practice)
 LOW_D_WEIGHT = 0.6
@@ -124,3 +132,76 @@ def fit_ligand_field(record: Any, d_sets: Sequence, energy: str = "nevpt2", c_ov
         residual_cm1=fit.residual, source=energy.upper(), fitted=fit.fitted,
         held=fit.held, n_states=fit.n_states, notes=tuple(notes))
 
+
+
+@dataclass(frozen=True)
+class ComputedState:
+    """One computed multiplet state, labelled (energies in cm⁻¹ above the lowest state)."""
+
+    index: int  # position in record.states
+    multiplicity: int
+    energy_cm1: float
+    irrep: str | None  # e.g. 'T2g' (None: no whole irrep, symmetry broken or no group given)
+    configurations: tuple[tuple[str, float], ...]  # d-set configurations, weight ≥ 0.05
+    d_weight: float  # ‖rotated CI vector‖²: the part of the state inside the frame d determinants
+
+    def to_dict(self, method: str) -> dict[str, Any]:
+        """The result.json ``multiplet_states`` row."""
+        return {"energy_cm1": self.energy_cm1, "multiplicity": self.multiplicity, "irrep": self.irrep,
+                "method": method, "configurations": [{"configuration": c, "weight": w}
+                                                     for c, w in self.configurations]}
+
+
+def _group_irrep(vectors: np.ndarray, reps: np.ndarray, symmetry: FrameSymmetry) -> str | None:
+    v = _lowdin(vectors.T)
+    chars = np.einsum("ia,gij,ja->g", v, reps, v)
+    counts = symmetry.group.decompose(chars)
+    if any(abs(n - round(n)) > 0.1 for n in counts.values()):
+        return None
+    labels = [symmetry.label(k) for k, n in counts.items() for _ in range(int(round(n)))]
+    return "+".join(lab[:1].upper() + lab[1:] for lab in labels) or None
+
+
+def _lowdin(v: np.ndarray) -> np.ndarray:
+    w, u = np.linalg.eigh(v.T @ v)
+    return v @ (u / np.sqrt(w)) @ u.T
+
+
+def describe_states(record: Any, d_sets: Sequence, symmetry: FrameSymmetry | None = None,
+                    energy: str = "nevpt2", degeneracy_cm1: float = 10.0) -> tuple[ComputedState, ...]:
+    """Energy, irrep and d-set configurations of every state of the record (module docstring).
+
+    ``symmetry``: the complex's point group with its operations in the frame of the record
+    (e.g. FrameSymmetry(s.group, s.ops, s.linear) from symmetry.detect_point_group); None
+    leaves ``irrep`` None.  Energies from ``energy`` ('nevpt2' or 'casscf'); degenerate groups
+    are formed from the CASSCF energies (the CI vectors are CASSCF's).
+    """
+    u = np.asarray(record.active_d_projection, dtype=float)
+    n = int(record.n_electrons)
+    lowest = min(_energy(s, energy) for s in record.states)
+    vecs = [rotate_ci(s.ci, u, n, int(s.ms2)) for s in record.states]
+    irreps: dict[int, str | None] = {}
+    if symmetry is not None:
+        blocks: dict[tuple[int, int], list[int]] = {}
+        for i, s in enumerate(record.states):
+            blocks.setdefault((int(s.multiplicity), int(s.ms2)), []).append(i)
+        for (_, ms2), members in blocks.items():
+            reps = determinant_representation(symmetry, n, ms2)
+            members.sort(key=lambda i: record.states[i].energy_casscf_hartree)
+            groups: list[list[int]] = []
+            for i in members:
+                e = hartree_to_cm1(record.states[i].energy_casscf_hartree)
+                if groups and e - hartree_to_cm1(record.states[groups[-1][-1]].energy_casscf_hartree) <= degeneracy_cm1:
+                    groups[-1].append(i)
+                else:
+                    groups.append([i])
+            for g in groups:
+                label = _group_irrep(np.array([vecs[i].ravel() for i in g]), reps, symmetry)
+                for i in g:
+                    irreps[i] = label
+    return tuple(ComputedState(index=i, multiplicity=int(s.multiplicity),
+                               energy_cm1=hartree_to_cm1(_energy(s, energy) - lowest), irrep=irreps.get(i),
+                               configurations=configuration_weights(vecs[i] / np.linalg.norm(vecs[i]), n,
+                                                                    int(s.ms2), d_sets),
+                               d_weight=float(np.sum(vecs[i] ** 2)))
+                 for i, s in enumerate(record.states))

@@ -14,19 +14,21 @@ read from the rank of the Jacobian (common practice).
 
 The ground multiplicity is not known beforehand for d⁴–d⁷: each allowed multiplicity is tried
 and a fit is kept only when its ground term really has that multiplicity at the fitted
-parameters; of those the smallest residual wins.
+parameters (untestable, and assumed, when B is not fixed); of those the smallest residual wins.
+When none is consistent the bands are refused (InputError).
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 from scipy.optimize import least_squares
 
 from dsplit.errors import InputError
-from dsplit.models.field_shape import FieldShape
+from dsplit.models.field_shape import FieldShape, polyhedron_shape
 from dsplit.models.free_ion import nephelauxetic_ratio
 from dsplit.models.multiplet import SUPERSCRIPT, allowed_multiplicities, solve_blocks
 
@@ -129,13 +131,16 @@ def _fit_one(shape: FieldShape, d_count: int, m: int, nu: np.ndarray, c_over_b: 
     return _Trial(p, float(np.sum((model(p) - nu) ** 2)), tuple(names))
 
 
-def fit_bands(d_count: int, shape: FieldShape, bands_cm1: Sequence[float], c_over_b: float = DEFAULT_C_OVER_B,
-              metal: str | None = None, oxidation_state: int | None = None, field_name: str = "bands") -> BandFit:
+def fit_bands(d_count: int, geometry: FieldShape | Any, bands_cm1: Sequence[float],
+              c_over_b: float = DEFAULT_C_OVER_B, metal: str | None = None, oxidation_state: int | None = None,
+              field_name: str = "bands") -> BandFit:
     """Δ, B (and C) from measured spin-allowed bands (cm⁻¹) — see the module docstring.
 
-    ``shape``: the field shape of the geometry (field_shape.polyhedron_shape(polyhedron(name))).
-    ``metal``/``oxidation_state`` are needed only for β.  Bad bands raise InputError(field_name).
+    ``geometry``: a FieldShape, or a polyhedron (geometry.polyhedra.polyhedron(name)), whose
+    σ-only AOM shape is then used.  ``metal``/``oxidation_state`` are needed only for β.  Bad
+    bands raise InputError(field_name).
     """
+    shape = geometry if isinstance(geometry, FieldShape) else polyhedron_shape(geometry)
     nu = np.sort(np.asarray([float(x) for x in bands_cm1]))
     if len(nu) == 0:
         raise InputError(field_name, "give at least one band in cm⁻¹")
@@ -150,13 +155,19 @@ def fit_bands(d_count: int, shape: FieldShape, bands_cm1: Sequence[float], c_ove
             continue
         trial = _fit_one(shape, d_count, m, nu, c_over_b, fit_c_allowed=len(nu) >= 3)
         lowest = _lowest(shape, d_count, *trial.params)
-        consistent = min(lowest, key=lambda mm: (round(lowest[mm], 6), -mm)) == m
-        trials.append((not consistent, trial.cost, m, trial))
+        # without a fitted B the ground multiplicity cannot be checked: the assignment is then assumed
+        consistent = "B" not in trial.fitted or min(lowest, key=lambda mm: (round(lowest[mm], 6), -mm)) == m
+        if consistent:
+            trials.append((trial.cost, m, trial))
     if not trials:
         most = max(len(excited_terms(shape, d_count, m, 10.0, 1.0, c_over_b)) for m in allowed_multiplicities(d_count))
-        raise InputError(field_name, f"{len(nu)} bands given but d^{d_count} has at most {most} spin-allowed "
-                                     "excited terms in this geometry")
-    inconsistent, _, m, trial = min(trials, key=lambda t: (t[0], t[1]))
+        if most < len(nu):
+            raise InputError(field_name, f"{len(nu)} bands given but d^{d_count} has at most {most} spin-allowed "
+                                         "excited terms in this geometry")
+        raise InputError(field_name, f"no consistent fit: for every ground multiplicity of d^{d_count} tried, the "
+                                     "fitted Δ and B put another multiplicity lowest; check that these are "
+                                     "spin-allowed d–d bands of one ion")
+    _, m, trial = min(trials, key=lambda t: t[0])
     delta, b, c = (float(x) for x in trial.params)
     terms = _terms(shape, d_count, m, delta, b, c)
     model = np.array([t[0] for t in terms[1:len(nu) + 1]]) - terms[0][0]
@@ -167,10 +178,10 @@ def fit_bands(d_count: int, shape: FieldShape, bands_cm1: Sequence[float], c_ove
         held["B"] = "not determined: these bands do not depend on B"
     if "C" not in trial.fitted:
         held["C"] = (f"C/B = {c_over_b:g}" if "B" in trial.fitted else "not determined")
-    if inconsistent:
-        notes.append(f"no multiplicity gives a self-consistent ground term; bands assigned to 2S+1 = {m}")
-    others = [mm for bad, cost, mm, _ in trials if not bad and mm != m and cost <= trial.cost + 1.0 * len(nu)]
-    if others and not inconsistent:
+    if "B" not in trial.fitted and len(allowed_multiplicities(d_count)) > 1:
+        notes.append(f"ground 2S+1 = {m} assumed: the bands do not fix B, so the spin state is not tested")
+    others = [mm for cost, mm, _ in trials if mm != m and cost <= trial.cost + 1.0 * len(nu)]
+    if others:
         notes.append("the bands fit equally well with a ground of 2S+1 = " + ", ".join(map(str, others))
                      + "; the magnetic moment or more bands decide")
     if "B" in trial.fitted and not PLAUSIBLE_B_CM1[0] <= b <= PLAUSIBLE_B_CM1[1]:

@@ -186,8 +186,7 @@ def symmetry_blocks(d_count: int, multiplicity: int, symmetry: FrameSymmetry | N
     if symmetry is None:
         blocks: tuple[_Block, ...] = (_Block(multiplicity, "A", 1, spin),)
     else:
-        reps = np.array([np.kron(string_minors(d, n_alpha), string_minors(d, n_beta))
-                         for d in d_representation(symmetry.ops)])
+        reps = determinant_representation(symmetry, d_count, multiplicity - 1)
         inside = spin.T[None] @ reps @ spin[None]
         found = []
         for irrep in symmetry.group.irreps:
@@ -343,6 +342,27 @@ class _ConfigurationCounter:
         order = np.argsort(-weights, kind="stable")
         return tuple((" ".join(f"{lab}^{n}" for lab, n in zip(self.labels, distinct[k])), round(float(weights[k]), 4))
                      for k in order if weights[k] >= 0.05)
+
+
+def configuration_weights(vectors: np.ndarray, d_count: int, ms2: int,
+                          d_sets: Sequence) -> tuple[tuple[str, float], ...]:
+    """d-set configurations (weight ≥ 0.05, largest first) of CI vectors over the frame d determinants.
+
+    ``vectors``: (k, N_α, N_β) components of one state or term (weights averaged); ``d_sets``:
+    DSet-like objects or (label, orbitals) pairs holding the five frame d orbitals.
+    """
+    frame = _orbital_frame(np.zeros((5, 5)), d_sets, None)
+    vecs = np.asarray(vectors, dtype=float)
+    n_alpha, n_beta = spin_counts(d_count, ms2)
+    vecs = vecs.reshape(-1, len(strings(n_alpha)), len(strings(n_beta)))
+    return _ConfigurationCounter(frame, d_count)(vecs, ms2)
+
+
+def determinant_representation(symmetry: FrameSymmetry, d_count: int, ms2: int) -> np.ndarray:
+    """R(g) (|G|, N, N) on the (n_α, n_β) determinants: kron of the string minors of D(g)."""
+    n_alpha, n_beta = spin_counts(d_count, ms2)
+    return np.array([np.kron(string_minors(d, n_alpha), string_minors(d, n_beta))
+                     for d in d_representation(symmetry.ops)])
 
 
 def solve_blocks(h: np.ndarray, b: float, c: float, d_count: int, multiplicity: int,
