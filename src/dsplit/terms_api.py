@@ -18,9 +18,10 @@ from typing import Any
 import numpy as np
 
 from dsplit.errors import InputError
-from dsplit.models.band_fit import DEFAULT_C_OVER_B, BandFit, fit_bands
+from dsplit.models.band_fit import BandFit, fit_bands
 from dsplit.models.field_shape import FieldShape, delta_of, polyhedron_shape, shape_of_matrix
-from dsplit.models.multiplet import FrameSymmetry, TermSpectrum, frame_symmetry, is_invariant, multiplet_states
+from dsplit.models.multiplet import (DEFAULT_C_OVER_B, FrameSymmetry, TermSpectrum, frame_symmetry, is_invariant,
+                                     multiplet_states)
 
 _AOM = re.compile(r"^\s*([A-Za-z][\w\-()]*)\s*(?:=\s*(\d+))?\s*:\s*([-+0-9.eE]+)\s*(?:,\s*([-+0-9.eE]+))?\s*$")
 _STAND_INS = ("O", "N", "S", "P", "C", "F", "Cl", "Br")  # distinct labels per ligand kind for the detector

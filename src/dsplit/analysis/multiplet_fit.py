@@ -33,7 +33,7 @@ from dsplit.models.aom import D_ORBITALS
 from dsplit.models.determinants import rotate_ci
 from dsplit.models.free_ion import nephelauxetic_ratio
 from dsplit.models.multiplet import (FrameSymmetry, assign_to_sets, configuration_weights,
-                                     determinant_representation)
+                                     determinant_representation, set_pairs)
 from dsplit.models.multiplet_lsq import StateBlock, UnderdeterminedFit, fit_effective_hamiltonian
 from dsplit.models.units import hartree_to_cm1
 
@@ -111,7 +111,8 @@ def fit_ligand_field(record: Any, d_sets: Sequence, energy: str = "nevpt2", c_ov
         raise ValueError("the multiplet calculation is not converged and verified; no ligand-field fit")
     fit = fit_effective_hamiltonian(record_blocks(record, energy), int(record.n_electrons), c_over_b, held_b_cm1)
     w, v = np.linalg.eigh(fit.h)
-    labels = [s.label for s in d_sets]
+    d_sets = set_pairs(d_sets)
+    labels = [lab for lab, _ in d_sets]
     owner = assign_to_sets(v, d_sets)
     set_e = {lab: float(np.mean([w[j] for j in range(5) if owner[j] == k])) for k, lab in enumerate(labels)}
     notes = []
@@ -121,7 +122,7 @@ def fit_ligand_field(record: Any, d_sets: Sequence, energy: str = "nevpt2", c_ov
         notes.append("active orbitals with little metal-d weight: " + ", ".join(low)
                      + "; the fitted h absorbs the metal–ligand mixing")
     for j in range(5):
-        weight = sum(v[D_ORBITALS.index(o), j] ** 2 for o in d_sets[owner[j]].orbitals)
+        weight = sum(v[D_ORBITALS.index(o), j] ** 2 for o in d_sets[owner[j]][1])
         if weight < 0.5:
             notes.append(f"level {j + 1} is only {weight:.0%} in its d set {labels[owner[j]]}")
     return LigandFieldFit(

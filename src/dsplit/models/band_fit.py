@@ -30,9 +30,8 @@ from scipy.optimize import least_squares
 from dsplit.errors import InputError
 from dsplit.models.field_shape import FieldShape, polyhedron_shape
 from dsplit.models.free_ion import nephelauxetic_ratio
-from dsplit.models.multiplet import SUPERSCRIPT, allowed_multiplicities, solve_blocks
+from dsplit.models.multiplet import DEFAULT_C_OVER_B, SUPERSCRIPT, allowed_multiplicities, solve_blocks
 
-DEFAULT_C_OVER_B = 4.5
 #: B and C/B of 3d complexes fall in these ranges (common practice); outside them the fit is flagged
 PLAUSIBLE_B_CM1 = (200.0, 1300.0)
 PLAUSIBLE_C_OVER_B = (3.0, 6.5)

@@ -21,7 +21,7 @@ from typing import Any
 import numpy as np
 
 from dsplit.models.aom import aom_matrix
-from dsplit.models.multiplet import FrameSymmetry, assign_to_sets, frame_symmetry, is_invariant
+from dsplit.models.multiplet import FrameSymmetry, assign_to_sets, frame_symmetry, is_invariant, set_pairs
 
 
 @dataclass(frozen=True)
@@ -40,7 +40,7 @@ def set_energies(h: np.ndarray, d_sets: Sequence) -> dict[str, float]:
     """Mean eigenvalue of h per d set (eigenvectors assigned to the set holding most of them)."""
     w, v = np.linalg.eigh(np.asarray(h, dtype=float))
     owner = assign_to_sets(v, d_sets)
-    labels = [s.label if hasattr(s, "label") else s[0] for s in d_sets]
+    labels = [label for label, _ in set_pairs(d_sets)]
     return {lab: float(np.mean([w[j] for j in range(5) if owner[j] == k])) for k, lab in enumerate(labels)}
 
 
@@ -53,8 +53,7 @@ def delta_of(h: np.ndarray, d_sets: Sequence) -> float:
 def shape_of_matrix(h: np.ndarray, d_sets: Sequence, symmetry: FrameSymmetry | None = None) -> FieldShape:
     """The shape of any one-electron matrix: h / Δ(h) (ValueError when Δ(h) = 0)."""
     h = np.asarray(h, dtype=float)
-    pairs = tuple((s.label, tuple(s.orbitals)) if hasattr(s, "orbitals") else (str(s[0]), tuple(s[1]))
-                  for s in d_sets)
+    pairs = tuple(set_pairs(d_sets))
     delta = delta_of(h, pairs)
     if abs(delta) < 1e-12 * max(1.0, float(np.abs(h).max())):
         raise ValueError("the ligand-field matrix does not split the d sets (Δ = 0)")

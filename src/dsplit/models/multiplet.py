@@ -42,6 +42,10 @@ from dsplit.models.racah import racah_eri_basis
 #: Upper-triangle index pairs (p ≤ q) of the 15 unique elements of h, row by row.
 H_INDEX: tuple[tuple[int, int], ...] = tuple((p, q) for p in range(5) for q in range(p, 5))
 
+#: C/B held when the data do not fix C: between the ratios of the Tanabe–Sugano diagrams (4.4–4.8;
+#: Tanabe & Sugano, J. Phys. Soc. Jpn. 9, 753 (1954) — from memory)
+DEFAULT_C_OVER_B = 4.5
+
 SUPERSCRIPT = str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹")
 
 
@@ -254,7 +258,7 @@ class TermSpectrum:
         return sum(t.multiplicity * t.degeneracy for t in self.terms)
 
 
-def _set_pairs(d_sets: Sequence | None) -> list[tuple[str, tuple[str, ...]]] | None:
+def set_pairs(d_sets: Sequence | None) -> list[tuple[str, tuple[str, ...]]] | None:
     """(label, orbitals) from DSet-like objects (.label, .orbitals) or (label, orbitals) pairs."""
     if d_sets is None:
         return None
@@ -273,7 +277,7 @@ def assign_to_sets(vectors: np.ndarray, d_sets: Sequence) -> list[int]:
     """
     from scipy.optimize import linear_sum_assignment
 
-    pairs = _set_pairs(d_sets) or []
+    pairs = set_pairs(d_sets) or []
     slots = [k for k, (_, orbs) in enumerate(pairs) for _ in orbs]
     v = np.asarray(vectors, dtype=float)
     weight = np.array([[sum(v[D_ORBITALS.index(o), j] ** 2 for o in pairs[k][1]) for k in slots]
@@ -288,7 +292,7 @@ def assign_to_sets(vectors: np.ndarray, d_sets: Sequence) -> list[int]:
 def _orbital_frame(h: np.ndarray, d_sets: Sequence | None,
                    symmetry: FrameSymmetry | None) -> tuple[np.ndarray, tuple[int, ...], list[str]]:
     """Orbitals for configuration labels: (V 5×5 columns over D_ORBITALS, set of each column, labels)."""
-    pairs = _set_pairs(d_sets)
+    pairs = set_pairs(d_sets)
     if pairs is not None:
         index = {o: k for k, (_, orbs) in enumerate(pairs) for o in orbs}
         if sorted(index) != sorted(D_ORBITALS):

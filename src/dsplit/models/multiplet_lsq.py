@@ -30,9 +30,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from dsplit.models.band_fit import DEFAULT_C_OVER_B
 from dsplit.models.determinants import spin_counts
-from dsplit.models.multiplet import H_INDEX, hamiltonian_basis, solve_blocks
+from dsplit.models.multiplet import DEFAULT_C_OVER_B, H_INDEX, hamiltonian_basis, solve_blocks
 
 _OFF = [k for k, (p, q) in enumerate(H_INDEX) if p != q]
 _DIAG = [k for k, (p, q) in enumerate(H_INDEX) if p == q]
@@ -115,7 +114,7 @@ def fit_effective_hamiltonian(blocks: Sequence[StateBlock], d_count: int, c_over
     """Least-squares h, B, C from computed states (module docstring).
 
     ``c_over_b``: None fits C when the states fix it and otherwise holds C/B at
-    band_fit.DEFAULT_C_OVER_B; a number always holds C = (C/B)·B.  ``held_b``: the B to hold
+    multiplet.DEFAULT_C_OVER_B; a number always holds C = (C/B)·B.  ``held_b``: the B to hold
     when the states do not fix it (otherwise B is reported as None).
     """
     parts = [_design(b, d_count) for b in blocks]
