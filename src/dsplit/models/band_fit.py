@@ -9,7 +9,7 @@ start.  C is held at C = (C/B)·B (default 4.5, between the ratios used for the 
 diagrams, Tanabe & Sugano, J. Phys. Soc. Jpn. 9, 753 (1954) — from memory) unless three or
 more bands are given and the bands depend on C independently (never for the highest
 multiplicity of d², d³, d⁷, d⁸, whose terms hold no C); B is not fitted when the bands do not
-depend on it (d¹, d⁹, high-spin d⁴ and d⁶ in cubic fields).  Which parameters the bands fix is
+depend on it (d¹, d⁹, high-spin d⁴ and d⁶: one ⁵D or ²D term).  Which parameters the bands fix is
 read from the rank of the Jacobian (common practice).
 
 The ground multiplicity is not known beforehand for d⁴–d⁷: each allowed multiplicity is tried
@@ -89,7 +89,7 @@ class _Trial:
 
 
 def _fit_one(shape: FieldShape, d_count: int, m: int, nu: np.ndarray, c_over_b: float,
-             fit_c_allowed: bool) -> _Trial:
+             fit_c_allowed: bool, field_name: str) -> _Trial:
     k = len(nu)
 
     def model(p: np.ndarray) -> np.ndarray:
@@ -111,7 +111,7 @@ def _fit_one(shape: FieldShape, d_count: int, m: int, nu: np.ndarray, c_over_b: 
                     for i, dp in enumerate(np.diag(step))]).T
     names = ["delta"]
     if _rank(jac[:, :1]) < 1:
-        raise InputError("bands", "the bands do not depend on Δ")
+        raise InputError(field_name, "the bands do not depend on Δ")
     if _rank(np.column_stack([jac[:, 0], jac[:, 1] + c_over_b * jac[:, 2]])) == 2:
         names.append("B")
         if fit_c_allowed and _rank(jac) == 3:
@@ -152,7 +152,7 @@ def fit_bands(d_count: int, geometry: FieldShape | Any, bands_cm1: Sequence[floa
         available = len(excited_terms(shape, d_count, m, 10.0, 1.0, c_over_b))
         if available < len(nu):
             continue
-        trial = _fit_one(shape, d_count, m, nu, c_over_b, fit_c_allowed=len(nu) >= 3)
+        trial = _fit_one(shape, d_count, m, nu, c_over_b, len(nu) >= 3, field_name)
         lowest = _lowest(shape, d_count, *trial.params)
         # without a fitted B the ground multiplicity cannot be checked: the assignment is then assumed
         consistent = "B" not in trial.fitted or min(lowest, key=lambda mm: (round(lowest[mm], 6), -mm)) == m
