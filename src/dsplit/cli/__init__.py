@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import click
 
-from dsplit.cli import archive, build, compute, spin
+from dsplit.cli import archive, build, compute, spin, terms
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
@@ -22,7 +22,7 @@ def main() -> None:
 
 
 for _command in (build.ligands_cmd, build.build_cmd, compute.compute_cmd, spin.spin_states_cmd,
-                 spin.optimize_cmd, archive.study_cmd, archive.archive_group):
+                 spin.optimize_cmd, terms.terms_cmd, archive.study_cmd, archive.archive_group):
     main.add_command(_command)
 
 

@@ -23,7 +23,7 @@ import numpy as np
 D_ORBITALS: tuple[str, ...] = ("xy", "yz", "z2", "xz", "x2-y2")
 
 _S3 = np.sqrt(3.0) / 2.0
-_Q = np.array(
+QUADRATIC_FORMS = np.array(
     [
         [[0, _S3, 0], [_S3, 0, 0], [0, 0, 0]],  # xy
         [[0, 0, 0], [0, 0, _S3], [0, _S3, 0]],  # yz
@@ -48,9 +48,9 @@ def overlap_factors(direction: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.n
     u = np.asarray(direction, dtype=float)
     u = u / np.linalg.norm(u)
     a, b = _perpendicular_pair(u)
-    f_sigma = np.einsum("i,kij,j->k", u, _Q, u)
-    f_pi_a = (2.0 / np.sqrt(3.0)) * np.einsum("i,kij,j->k", a, _Q, u)
-    f_pi_b = (2.0 / np.sqrt(3.0)) * np.einsum("i,kij,j->k", b, _Q, u)
+    f_sigma = np.einsum("i,kij,j->k", u, QUADRATIC_FORMS, u)
+    f_pi_a = (2.0 / np.sqrt(3.0)) * np.einsum("i,kij,j->k", a, QUADRATIC_FORMS, u)
+    f_pi_b = (2.0 / np.sqrt(3.0)) * np.einsum("i,kij,j->k", b, QUADRATIC_FORMS, u)
     return f_sigma, f_pi_a, f_pi_b
 
 
