@@ -18,7 +18,7 @@ from tests.conftest import make
 
 
 def _run(cx, theory="HF", basis="sto-3g", solvent="none", tmp=None, **kw):
-    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent=solvent, grid_level=1), threads=2)
+    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent=solvent, grid_level=1), threads=1)
     return run_calculation(cx, setup, tmp, **kw)
 
 
@@ -98,7 +98,7 @@ def test_ladder_climbs_when_diis_runs_out(tmp_path):
     need = free.rungs[0].cycles
     assert free.rungs[0].rung == "diis" and free.rungs[0].converged
     setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none", max_cycles=max(3, need // 2)),
-                           threads=2)
+                           threads=1)
     capped = run_calculation(cx, setup, tmp_path)
     assert not capped.rungs[0].converged
     assert capped.ok
@@ -133,7 +133,7 @@ def test_failed_rung_hands_on_its_smallest_gradient_orbitals(monkeypatch):
     from dsplit.qc.setup import build_mole, make_mean_field
 
     cx = make("Fe", "tetrahedral", {"chlorido": 4}, oxidation_state=3)
-    setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none"), threads=2)
+    setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none"), threads=1)
     mol, _ = build_mole(cx, setup, 6)
     seen: list[tuple[float, np.ndarray, np.ndarray]] = []
     record = ladder._BestSoFar.record
@@ -167,7 +167,7 @@ def test_converged_rung_records_the_gradient_of_its_last_cycle():
     from dsplit.qc.setup import build_mole, make_mean_field
 
     cx = make("Ti", "tetrahedral", {"chlorido": 4}, oxidation_state=4)
-    setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none"), threads=2)
+    setup = resolve_method(cx, MethodSpec(theory="HF", basis="sto-3g", solvent="none"), threads=1)
     mol, _ = build_mole(cx, setup)
     mf, records = ladder.run_ladder(make_mean_field(mol, cx, setup, restricted=True), None, rungs=("diis",))
     assert records[-1].converged

@@ -29,7 +29,7 @@ HF_MINIMAL = MethodSpec(theory="HF", basis="sto-3g", solvent="none", density_fit
 def _setup(cx, method=HF_MINIMAL):
     from dsplit.qc.setup import resolve_method
 
-    return resolve_method(cx, method, threads=2)
+    return resolve_method(cx, method, threads=1)
 
 
 def test_full_keeps_td_and_is_a_breathing_minimum(tmp_path):
@@ -105,7 +105,7 @@ def _write_spec(tmp_path, **extra_method) -> str:
 def test_step_limit_is_reported_with_exit_3(tmp_path):
     out = tmp_path / "run"
     res = CliRunner().invoke(main, ["optimize", _write_spec(tmp_path), "--max-steps", "1", "--out", str(out),
-                                            "--quiet", "--threads", "2"])
+                                            "--quiet", "--threads", "1"])
     assert res.exit_code == 3, res.output
     doc = json.loads((out / "result.json").read_text())
     opt = doc["optimization"]

@@ -59,7 +59,7 @@ def tif4_opt(tmp_path_factory):
     from dsplit.qc.setup import resolve_method
 
     cx = build_complex(ComplexRequest(name="tif4", **TIF4))
-    setup = resolve_method(cx, HF_MINIMAL, threads=2)
+    setup = resolve_method(cx, HF_MINIMAL, threads=1)
     folder = tmp_path_factory.mktemp("tif4-sym")
     return cx, setup, optimize_symmetric(cx, setup, folder)
 

@@ -326,7 +326,7 @@ def test_list_marks_damaged_and_missing_runs(tmp_path, archive_with_run):
     shutil.rmtree(copy / "tif4-second")
     res = _run(["archive", "list", "--archive", str(copy), "--format", "json"])
     assert res.exit_code == 0, res.output
-    rows = {r["name"]: r for r in json.loads(res.output)}
+    rows = {r["folder"].split("/")[0]: r for r in json.loads(res.output)}
     assert rows["tif4-archived"]["status"].startswith("damaged")
     assert rows["tif4-second"]["status"] == "folder missing"
 

@@ -79,7 +79,7 @@ def vf4_ladder(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("vf4")
     out = tmp / "run"
     res = CliRunner().invoke(main, ["spin-states", _spec(tmp), "--functionals", "HF,BHANDHLYP", "--out", str(out),
-                                    "--quiet", "--threads", "2"])
+                                    "--quiet", "--threads", "1"])
     return res, out
 
 
@@ -111,7 +111,7 @@ def test_d2_tetrahedral_ladder(vf4_ladder):
 def test_unconverged_state_withholds_ground_and_exits_3(tmp_path):
     out = tmp_path / "run"
     res = CliRunner().invoke(main, ["spin-states", _spec(tmp_path, extra="max_cycles = 1\n"), "--out", str(out),
-                                    "--quiet", "--threads", "2"])
+                                    "--quiet", "--threads", "1"])
     assert res.exit_code == 3, res.output
     doc = json.loads((out / "result.json").read_text())
     assert doc["ground_multiplicity"] is None and "ground_withheld" in doc
@@ -128,7 +128,7 @@ def test_d4_tetrahedral_is_high_spin(tmp_path):
     """d4 in Td: high spin e²t2² (5) below low spin e⁴ (1) — a real Δ-vs-pairing choice."""
     out = tmp_path / "run"
     res = CliRunner().invoke(main, ["spin-states", _spec(tmp_path, MNF4), "--multiplicities", "1,5", "--out", str(out),
-                                    "--quiet", "--threads", "2"])
+                                    "--quiet", "--threads", "1"])
     assert res.exit_code == 0, res.output
     doc = json.loads((out / "result.json").read_text())
     by_m = {s["multiplicity"]: s for s in doc["spin_states"]}

@@ -19,7 +19,7 @@ from tests.conftest import make
 
 
 def _calc(cx, tmp, theory="HF", basis="sto-3g", solvent="none"):
-    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent=solvent, grid_level=1), threads=2)
+    setup = resolve_method(cx, MethodSpec(theory=theory, basis=basis, solvent=solvent, grid_level=1), threads=1)
     return run_calculation(cx, setup, tmp, stability=False)
 
 

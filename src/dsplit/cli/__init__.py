@@ -6,12 +6,35 @@ progress) is in :mod:`dsplit.cli.options`.  Exit codes are listed there.
 
 from __future__ import annotations
 
+import sys
+
 import click
 
 from dsplit.cli import archive, build, compute, spin, terms
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+class OneLineErrors(click.Group):
+    """click's usage errors (a bad flag value, a missing argument) as one line, exit 2, like ours."""
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
+        if not standalone_mode:
+            return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        try:
+            code = super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        except click.UsageError as exc:
+            where = f" (see: {exc.ctx.command_path} --help)" if exc.ctx is not None else ""
+            click.echo(f"dsplit: error: {exc.format_message()}{where}", err=True)
+            sys.exit(exc.exit_code)
+        except click.ClickException as exc:
+            click.echo(f"dsplit: error: {exc.format_message()}", err=True)
+            sys.exit(exc.exit_code)
+        except click.exceptions.Abort:
+            click.echo("dsplit: aborted", err=True)
+            sys.exit(1)
+        sys.exit(code if isinstance(code, int) else 0)
+
+
+@click.group(cls=OneLineErrors, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="dsplit")
 def main() -> None:
     """d-orbital splitting of transition-metal complexes.

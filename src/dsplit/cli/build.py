@@ -40,7 +40,7 @@ def ligands_cmd(as_json: bool) -> None:
 @click.command("build")
 @handles_errors
 @spec_options(with_method=False)
-@click.option("-o", "--output", type=click.Path(dir_okay=False),
+@click.option("-o", "--output", type=click.Path(),
               help="Geometry file; format from the extension (any ase.io format). Default: NAME.xyz (extended XYZ).")
 @click.option("--isomers", "list_isomers", is_flag=True, help="List the isomers of the ligand set and stop.")
 @click.option("--json", "as_json", is_flag=True, help="Print a machine-readable summary.")

@@ -160,7 +160,7 @@ def spec_options(with_method: bool = True) -> Callable:
 def resource_options(func: Callable) -> Callable:
     """``--threads`` and ``--memory`` (checked by qc.setup.check_resources before anything runs)."""
     func = click.option("--memory", "memory_mb", type=int, help="Memory limit in MB.")(func)
-    return click.option("--threads", type=int, help="CPU threads (default: all cores).")(func)
+    return click.option("--threads", type=int, help="CPU threads (default: $OMP_NUM_THREADS, else all cores).")(func)
 
 
 def archive_options(func: Callable) -> Callable:

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -39,8 +40,8 @@ class Calculation:
 
     complex: Complex
     setup: MethodSetup
-    mol: object
-    mf: object
+    mol: Any  # pyscf.gto.Mole
+    mf: Any  # the PySCF mean-field object (SCF, DFT; with DF, PCM, point charges)
     multiplicity: int
     target_occupations: list[int]
     target_alpha: list[int]

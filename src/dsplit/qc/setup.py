@@ -42,6 +42,8 @@ class MethodSetup:
 def check_theory(theory: str) -> tuple[str, bool, float]:
     """(canonical name, is HF, exact-exchange fraction); InputError if PySCF rejects it."""
     name = theory.strip()
+    if not name:
+        raise InputError("method.theory", "is empty; use HF or a functional name such as B3LYP, PBE0, PBE, TPSSh")
     if name.upper() in ("HF", "RHF", "UHF", "HARTREE-FOCK"):
         return "HF", True, 1.0
     from pyscf.dft import libxc
@@ -108,7 +110,7 @@ def resolve_method(cx: Complex, method: MethodSpec, threads: int | None = None,
     ecp = check_basis(method.basis, symbols)
     solvent = resolve_solvent(method.solvent, cx.charge)
     check_resources(threads, memory_mb)
-    n_threads = threads if threads is not None else (os.cpu_count() or 1)
+    n_threads = threads if threads is not None else default_threads()
     notes = []
     if ecp:
         notes.append(f"effective core potential '{ecp}' attached for heavy elements")
@@ -120,6 +122,19 @@ def resolve_method(cx: Complex, method: MethodSpec, threads: int | None = None,
 
 #: the smallest memory limit a run can work with (PySCF's own buffers, common practice)
 MIN_MEMORY_MB = 100
+
+
+def default_threads() -> int:
+    """Threads when none are asked for: $OMP_NUM_THREADS when it is a whole number ≥ 1, else every core.
+
+    (OpenMP programs read that variable the same way, common practice.)
+    """
+    import os
+
+    value = os.environ.get("OMP_NUM_THREADS", "").strip()
+    if value.isdigit() and int(value) >= 1:
+        return int(value)
+    return os.cpu_count() or 1
 
 
 def check_resources(threads: int | None, memory_mb: int | None) -> None:
