@@ -21,6 +21,7 @@ from dsplit.models.checks import (
 )
 from dsplit.models.crystal_field import point_charge_levels
 from dsplit.models.filling import ground_spin_state
+from dsplit.models.aom import aom_levels
 from dsplit.models.fit import fit_aom
 from dsplit.models.levels import aom_sets
 
@@ -57,11 +58,19 @@ def test_estimators():
 
 
 def test_fit_residual():
-    good = fit_aom(OCT, [-0.4, -0.4, -0.4, 0.6, 0.6])
+    # one Δ in Oh fixes one combination (3eσ − 4eπ) of two parameters: the residual is zero by
+    # construction, so the check cannot bite and must say "not applicable" (common practice: a fit
+    # tests a model only when the data over-determine it)
+    one_delta = fit_aom(OCT, [-0.4, -0.4, -0.4, 0.6, 0.6])
+    c = fit_residual_check(one_delta)
+    assert c.verdict == NOT_APPLICABLE and "zero by construction" in c.detail
+    # three distinct levels cannot come from an octahedral AOM: over-determined, and it differs
     bad = fit_aom(OCT, [0.0, 0.0, 0.3, 1.0, 1.0])
-    assert fit_residual_check(good).verdict == AGREES
-    assert "combination" in fit_residual_check(good).detail  # Oh: eσ, eπ not separable
-    assert fit_residual_check(bad).verdict == DIFFERS
+    assert bad.overdetermined and fit_residual_check(bad).verdict == DIFFERS
+    # levels and d vectors made by the AOM itself (eσ = 1, eπ = 0.2): over-determined, and it agrees
+    w, v = aom_levels(OCT, 1.0, 0.2)
+    made = fit_aom(OCT, w, vectors=v)
+    assert made.overdetermined and fit_residual_check(made).verdict == AGREES
     assert fit_residual_check(None).verdict == NOT_APPLICABLE
 
 

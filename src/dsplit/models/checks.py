@@ -106,6 +106,9 @@ def fit_residual_check(fit: AOMFit | None, rel_tol: float = 0.05) -> Check:
     spread = max(fit.target) - min(fit.target)
     if spread <= 0.0:
         return _na(name, "levels do not split", rms=fit.rms)
+    if not fit.overdetermined:
+        return _na(name, f"the data ({fit.n_data} independent number(s)) fix only as many parameter combinations "
+                         f"({fit.rank}) as are fitted: the residual is zero by construction", rms=fit.rms)
     rel = fit.rms / spread
     nums = {"rms": fit.rms, "spread": spread, "relative_rms": rel, "rel_tol": rel_tol}
     detail = f"RMS/spread {rel:.4f} vs tolerance {rel_tol}"

@@ -50,6 +50,17 @@ class AOMFit:
     determined: list[tuple[dict[str, float], float]] = field(default_factory=list)
     alternatives: list[dict[str, float]] = field(default_factory=list)
     note: str = ""
+    n_data: int = 0  # independent numbers in the target (distinct levels, or matrix elements, after the reference)
+    rank: int = 0  # parameter combinations the final fit determines
+
+    @property
+    def overdetermined(self) -> bool:
+        """Whether the data could disagree with the model: more independent numbers than fitted combinations.
+
+        When not, the residual is zero by construction and says nothing (one Δ fixes one
+        combination of eσ and eπ in Oh).
+        """
+        return self.n_data > self.rank
 
     @property
     def residuals(self) -> np.ndarray:
@@ -239,8 +250,15 @@ def fit_aom(
             note += "." if full else "; even so they are not unique."
         else:
             note += " The values below are one solution among many."
+    final_rank = _rank_and_rowspace(jac)[0]
+    shifted = 0 if reference == "absolute" else 1
+    if vecs is None:
+        distinct = 1 + int(np.sum(np.diff(prob.y) > 1e-6 * scale))
+        n_data = distinct - shifted
+    else:
+        n_data = 15 - shifted  # the symmetric 5×5 target matrix
     alternatives = []
-    if others and _rank_and_rowspace(jac)[0] == len(free):
+    if others and final_rank == len(free):
         alternatives = [dict(zip(prob.names, map(float, q))) for q in others]
         note += (" " if note else "") + (
             f"{len(alternatives)} other parameter set(s) fit the sorted levels as well "
@@ -258,6 +276,8 @@ def fit_aom(
         determined=determined,
         alternatives=alternatives,
         note=note,
+        n_data=n_data,
+        rank=final_rank,
     )
 
 
