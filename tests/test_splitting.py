@@ -210,3 +210,29 @@ def test_d2_tetrahedral_targets_the_t2_component(tmp_path):
     t1 = state_estimator(calc, replace(tr, hole=t1_hole, component=None), tmp_path / "t1")
     assert t2["configuration_verified"] and t1["configuration_verified"]
     assert 0 < t2["delta_eV"] < t1["delta_eV"], (t2["delta_eV"], t1["delta_eV"])
+
+
+def test_band_root_has_the_band_symmetry(tmp_path):
+    """[VF4]− (Td d2, ³A2): only a root of the band's symmetry counts as the band.
+
+    Outside facts: the first band ³A2 → ³T2 lies below ³A2 → ³T1(F) (Tanabe–Sugano / Orgel
+    diagram, textbook); both are e → t2 excitations, whose operators span T1 + T2 (e ⊗ t2 in the
+    Td character table); the band's operator has the symmetry A2 ⊗ T2 = T1, the second band's
+    A2 ⊗ T1 = T2 (direct products, Td character table — from memory).
+    """
+    from dsplit.analysis.splitting import band_operator_irrep, tda_roots
+    from dsplit.api.estimators import tda_until_band
+
+    cx = make("V", "tetrahedral", {"fluorido": 4}, oxidation_state=3)
+    calc = _calc(cx, tmp_path, theory="B3LYP")
+    table = build_orbital_table(calc)
+    tr = choose_transition(calc)
+    assert band_operator_irrep(calc)[0] == "t1"
+    record = tda_until_band(calc, table, tr, root_counts=(6,))[-1]
+    roots = [r for r in tda_roots(record, calc, table, tr) if r["band_weight"] > 0.5]
+    assert {r["operator_symmetry"] for r in roots} >= {"t1", "t2"}
+    band = [r for r in roots if r["ligand_field_band"]]
+    second = [r for r in roots if r["operator_symmetry"] == "t2"]
+    assert band and all(r["operator_symmetry"] == "t1" and r["operator_symmetry_weight"] > 0.9 for r in band)
+    assert not any(r["ligand_field_band"] for r in second)
+    assert min(r["energy_eV"] for r in band) < min(r["energy_eV"] for r in second)

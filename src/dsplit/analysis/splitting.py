@@ -50,12 +50,19 @@ PURE_COMPONENTS = {"T2": {(0, 1)}, "T1": {(1, 1)}, "E": {(0, 0), (1, 0)}}
 UPPER_STATE = {("octahedral", "high"): {1: "E", 2: "T2", 3: "T2", 4: "T2", 6: "E", 7: "T2", 8: "T2", 9: "T2"},
                ("octahedral", "low"): {6: "T1", 1: "E", 2: "T2", 3: "T2", 8: "T2", 9: "T2"},
                ("tetrahedral", "high"): {1: "T2", 2: "T2", 3: "T2", 4: "E", 6: "T2", 7: "T2", 8: "T2", 9: "E"}}
+#: ground terms that are orbitally non-degenerate, (family, spin) → {dⁿ: irrep} (Tanabe–Sugano diagrams,
+#: Lever 1984, from memory); for them the band's excitation operator has the symmetry ground ⊗ upper state
+#: (A2g ⊗ T2g = T1g for Oh d3 and d8), which a TDA root of the band must carry
+NONDEGENERATE_GROUND = {("octahedral", "high"): {3: "A2g", 8: "A2g"}, ("octahedral", "low"): {6: "A1g", 3: "A2g",
+                                                                                                8: "A2g"},
+                        ("tetrahedral", "high"): {2: "A2", 7: "A2"}}
 #: a component is chosen only when every manifold MO is this much one frame d orbital (share of its
 #: d weight); else (e.g. cis-[CrCl2(NH3)4]+, whose t2g MOs are xy ± xz, 0.5 each) the highest lower-set
 #: MO → the lowest upper-set MO, as ties between mixed MOs picked hole and particle arbitrarily
 PURE_SHARE = 0.75
 ROOT_DEGENERACY_EV = 0.02  # roots closer than this count as one band
 D_D_THRESHOLD = 0.5  # weight of manifold→manifold pairs in a root for it to count as d–d
+BAND_SYMMETRY_MIN_WEIGHT = 0.05  # below this lower→upper weight a root's band-operator symmetry is not shown
 
 
 def energy_block(delta_hartree: float | None) -> dict[str, float | None]:
@@ -262,18 +269,20 @@ def state_estimate(calc: Calculation, record: DeltaScfRecord) -> dict[str, Any]:
     return out
 
 
-def _root_analysis(xs, calc: Calculation, table,
-                   tr: Transition | None) -> tuple[float, float, list[tuple[int, int, int, float]]]:
-    """(weight of manifold→manifold pairs, weight of lower-set→upper-set pairs, dominant pairs) of a root.
+def _root_analysis(xs, calc: Calculation, table, tr: Transition | None
+                   ) -> tuple[float, float, list[tuple[int, int, int, float]], list[np.ndarray]]:
+    """(manifold→manifold weight, lower-set→upper-set weight, dominant pairs, band operators) of a root.
 
     ``xs``: the root's X amplitudes per spin (occupied × virtual), as in :class:`TdaRecord`.
 
     The band weight counts only pairs from the transition's lower d set to its upper one
     (t2g → eg in Oh): excitations inside a set split by a lower-symmetry density (t2g → t2g
-    of an open t2g shell) are d–d too, but they are not the ligand-field band.
+    of an open t2g shell) are d–d too, but they are not the ligand-field band.  The band
+    operators (one 5×5 matrix per spin, over the frame d orbitals) are the root's lower →
+    upper amplitudes M = Σ_ia X_ia f_i f_aᵀ with f the MOs' frame-d amplitudes.
     """
     chans = calc.channels
-    total, dd, band, pairs = 0.0, 0.0, 0.0, []
+    total, dd, band, pairs, operators = 0.0, 0.0, 0.0, [], []
     for spin, xm in enumerate(xs):
         xm = np.asarray(xm)
         ch = min(spin, len(chans) - 1)
@@ -281,10 +290,11 @@ def _root_analysis(xs, calc: Calculation, table,
         occ_idx = np.where(occ > 0)[0]
         vir_idx = np.where(occ == 0)[0]
         man = set(table.channels[min(spin, len(table.channels) - 1)].manifold.indices)
-        lower = upper = set()
+        lower: list[int] = []
+        upper: list[int] = []
         if tr is not None and calc.picks and len(calc.picks) > ch:
-            lower = set(calc.picks[ch][tr.lower].mo_indices)
-            upper = set(calc.picks[ch][tr.upper].mo_indices)
+            lower = [m for m in calc.picks[ch][tr.lower].mo_indices if m in set(occ_idx)]
+            upper = [m for m in calc.picks[ch][tr.upper].mo_indices if m in set(vir_idx)]
         w = xm ** 2
         total += w.sum()
         for i_loc, a_loc in zip(*np.nonzero(w > 1e-3)):
@@ -294,10 +304,57 @@ def _root_analysis(xs, calc: Calculation, table,
                 dd += float(w[i_loc, a_loc])
             if i in lower and a in upper:
                 band += float(w[i_loc, a_loc])
+        if lower and upper:
+            rows = np.searchsorted(occ_idx, lower)
+            cols = np.searchsorted(vir_idx, upper)
+            block = xm[np.ix_(rows, cols)]
+            operators.append(calc.d_amplitudes(ch, lower) @ block @ calc.d_amplitudes(ch, upper).T)
     pairs.sort(key=lambda p: -p[3])
     if total <= 0:
-        return 0.0, 0.0, pairs[:3]
-    return dd / total, band / total, pairs[:3]
+        return 0.0, 0.0, pairs[:3], operators
+    return dd / total, band / total, pairs[:3], operators
+
+
+def operator_irrep_weights(operators: list[np.ndarray], group, ops: np.ndarray) -> dict[str, float]:
+    """Share of each irrep of ``group`` in one-electron excitation operators over the frame d orbitals.
+
+    M transforms as M → D(g) M D(g)ᵀ (D the real-d representation, models.multiplet);
+    the weight of Γ is ⟨M, P_Γ M⟩ / ⟨M, M⟩ with the character projector P_Γ (projection
+    operators, e.g. Cotton, Chemical Applications of Group Theory, ch. 6 — from memory),
+    summed over spins.
+    """
+    from dsplit.models.multiplet import d_representation
+
+    d = d_representation(ops)
+    overlap = np.zeros(len(ops))
+    norm = 0.0
+    for m in operators:
+        overlap += np.einsum("ij,gik,gjl,kl->g", m, d, d, m)
+        norm += float(np.sum(m * m))
+    if norm <= 1e-12:
+        return {}
+    return {r.label: float(group.projector_weights(r.label) @ overlap / norm) for r in group.irreps}
+
+
+def band_operator_irrep(calc: Calculation) -> tuple[str, object] | None:
+    """(irrep label, point group) the band's excitation operator must carry, or None when not decidable.
+
+    Decidable for the idealised donor sets (the complex's exact group is the polyhedron's)
+    with an orbitally non-degenerate ground term (:data:`NONDEGENERATE_GROUND`).
+    """
+    from dsplit.symmetry import point_group
+
+    cx = calc.complex
+    key = (geometry_family(cx), _spin_kind(calc))
+    ground = NONDEGENERATE_GROUND.get(key, {}).get(cx.d_count)
+    upper = UPPER_STATE.get(key, {}).get(cx.d_count)
+    if ground is None or upper is None or cx.exact_point_group != cx.point_group:
+        return None
+    group = point_group(cx.point_group)
+    parity = "g" if any(r.label.endswith("g") for r in group.irreps) else ""
+    chi = group.op_chars(ground.lower()) * group.op_chars(upper.lower() + parity)
+    found = [lab for lab, n in group.decompose(chi).items() if n > 0.5]
+    return (found[0], group) if len(found) == 1 else None
 
 
 #: roots asked for, in turn, until one belongs to the ligand-field band: charge-transfer roots of the same
@@ -307,12 +364,19 @@ ROOT_COUNTS = (2, 6, 12)
 
 
 def tda_roots(record: TdaRecord, calc: Calculation, table, tr: Transition | None) -> list[dict[str, Any]]:
-    """The converged roots of a TDA record, each with its d–d and band weights and leading pairs."""
+    """The converged roots of a TDA record, each with its d–d and band weights and leading pairs.
+
+    A root counts as the ligand-field band when most of it is lower → upper d-set pairs and,
+    where the band's symmetry is decidable (:func:`band_operator_irrep`), when its lower →
+    upper part has that symmetry more than any other (a ³T1g root of Oh d8 is t2g → eg as
+    well, but it is the second band).
+    """
+    wanted = band_operator_irrep(calc) if tr is not None else None
     roots = []
     for k, e in enumerate(record.energies_hartree):
         if not record.converged[k]:
             continue
-        frac, band_frac, pairs = _root_analysis(record.amplitudes[k], calc, table, tr)
+        frac, band_frac, pairs, operators = _root_analysis(record.amplitudes[k], calc, table, tr)
         labs = []
         for spin, i, a, w in pairs[:2]:
             ch = table.channels[min(spin, len(table.channels) - 1)]
@@ -321,10 +385,21 @@ def tda_roots(record: TdaRecord, calc: Calculation, table, tr: Transition | None
             labs.append(f"{hl}→{pl}{'αβ'[spin] if len(table.channels) == 2 else ''} ({w:.2f})")
         e_cm1 = hartree_to_cm1(float(e))
         f_osc = record.oscillator_strengths[k]
-        roots.append({"energy_eV": hartree_to_ev(float(e)), "energy_cm1": e_cm1, "wavelength_nm": cm1_to_nm(e_cm1),
-                      "oscillator_strength": f_osc, "symmetry": record.symmetry_block or "",
-                      "d_d": frac >= D_D_THRESHOLD, "d_d_weight": frac, "band_weight": band_frac,
-                      "ligand_field_band": band_frac >= D_D_THRESHOLD, "pairs": labs})
+        is_band = band_frac >= D_D_THRESHOLD
+        root = {"energy_eV": hartree_to_ev(float(e)), "energy_cm1": e_cm1, "wavelength_nm": cm1_to_nm(e_cm1),
+                "oscillator_strength": f_osc, "symmetry": record.symmetry_block or "",
+                "d_d": frac >= D_D_THRESHOLD, "d_d_weight": frac, "band_weight": band_frac}
+        if wanted is not None and operators and band_frac > BAND_SYMMETRY_MIN_WEIGHT:
+            label, group = wanted
+            weights = operator_irrep_weights(operators, group, group.ops)
+            best = max(weights, key=weights.get) if weights else None
+            root["operator_symmetry"] = best
+            root["operator_symmetry_weight"] = weights.get(best) if best else None
+            root["band_operator_symmetry"] = label
+            is_band = is_band and best == label
+        root["ligand_field_band"] = is_band
+        root["pairs"] = labs
+        roots.append(root)
     return roots
 
 

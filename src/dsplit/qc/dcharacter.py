@@ -46,6 +46,21 @@ def d_weights(mol, mo_coeff: np.ndarray, projector: np.ndarray | None = None) ->
     return np.array([np.sum(c[idx[k]] ** 2, axis=0) for k in D_ORBITALS])
 
 
+def d_amplitudes(mol, mo_coeff: np.ndarray, projector: np.ndarray, mos: list[int]) -> np.ndarray:
+    """(5, len(mos)) signed amplitudes of MOs ``mos`` on the frame d orbitals (D_ORBITALS order).
+
+    Each frame orbital k has one amplitude per metal d shell (3d, 4d … of the basis); the
+    shells are combined by the one shell vector u that carries most of these MOs' d
+    amplitude (leading singular vector of the shells × (components · MOs) array), so the
+    five results transform together as one d shell under rotations.
+    """
+    idx = metal_d_indices(mol)
+    amp = projector @ np.asarray(mo_coeff)[:, list(mos)]
+    shells = np.stack([amp[idx[k]] for k in D_ORBITALS], axis=1)  # (n_shells, 5, n)
+    u, _, _ = np.linalg.svd(shells.reshape(shells.shape[0], -1), full_matrices=False)
+    return np.einsum("s,skn->kn", u[:, 0], shells)
+
+
 @dataclass
 class SetPick:
     """The d-based MOs of one d set for one spin."""

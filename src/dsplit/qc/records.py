@@ -17,7 +17,7 @@ from typing import Any
 import numpy as np
 
 from dsplit.complex import Complex
-from dsplit.qc.dcharacter import SetPick, d_weights, orthogonal_projector
+from dsplit.qc.dcharacter import SetPick, d_amplitudes, d_weights, orthogonal_projector
 from dsplit.qc.ladder import RungRecord
 from dsplit.qc.setup import MethodSetup
 from dsplit.qc.targeting import orbital_symmetries
@@ -94,6 +94,12 @@ class Calculation:
                 self._cache["projector"] = orthogonal_projector(self.mol)
             self._cache[key] = d_weights(self.mol, self.channels[channel][0], self._cache["projector"])
         return self._cache[key]
+
+    def d_amplitudes(self, channel: int, mos: list[int]) -> np.ndarray:
+        """(5, len(mos)) signed frame-d amplitudes of MOs of one channel (qc.dcharacter.d_amplitudes)."""
+        if "projector" not in self._cache:
+            self._cache["projector"] = orthogonal_projector(self.mol)
+        return d_amplitudes(self.mol, self.channels[channel][0], self._cache["projector"], mos)
 
     def spin_square(self) -> tuple[float, float]:
         """(⟨S²⟩, 2S+1) from PySCF."""

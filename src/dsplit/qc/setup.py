@@ -103,7 +103,6 @@ def check_basis(basis: str, symbols: list[str]) -> str | None:
 def resolve_method(cx: Complex, method: MethodSpec, threads: int | None = None,
                    memory_mb: int | None = None) -> MethodSetup:
     """Validate and resolve a MethodSpec for this complex (no SCF yet)."""
-    import os
 
     theory, is_hf, hyb = check_theory(method.theory)
     symbols = [s for s in cx.atoms.get_chemical_symbols() if s != "X"]
@@ -223,7 +222,10 @@ def _mole(fields: dict, log_path: Path | None):
     for key, value in fields.items():
         setattr(mol, key, value)
     if log_path is not None:
-        mol.stdout = open(log_path, "w", encoding="utf-8")  # noqa: SIM115 - PySCF keeps writing to it
+        import weakref
+
+        mol.stdout = open(log_path, "w", encoding="utf-8")  # noqa: SIM115 - PySCF writes to it as long as mol lives
+        weakref.finalize(mol, mol.stdout.close)  # closed with the molecule (its copies share the stream)
     mol.build()
     return mol
 
