@@ -263,12 +263,15 @@ class ProgressLine:
 @click.option("--archive", "archive_dir", type=click.Path(), default=None,
               help="Archive folder (default: $DSPLIT_ARCHIVE, else ./dsplit-archive).")
 @click.option("--recompute", is_flag=True, help="Compute again even if the archive holds this run.")
+@click.option("--cubes", is_flag=True, default=None,
+              help="Also write Gaussian cube files: d orbitals, spin density, excited − ground density.")
+@click.option("--cube-spacing", type=float, default=None, help="Cube grid spacing in Å (default 0.15).")
 @click.option("--quiet", is_flag=True, help="No progress line, no tables.")
 @click.option("--json", "as_json", is_flag=True, help="Print result.json to stdout as well.")
 @handles_errors
 def compute_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bond_length, multiplicity,
                 theory, basis, solvent, density_fitting, open_shell, threads, memory_mb, out_dir, start_from,
-                archive_dir, recompute, quiet, as_json) -> None:
+                archive_dir, recompute, cubes, cube_spacing, quiet, as_json) -> None:
     """Compute SPEC: verified SCF, full-group orbital labels, splitting, checks, report.
 
     The run lands in the archive (cache hit when the same request is there) unless
@@ -283,16 +286,17 @@ def compute_cmd(spec, metal, oxidation_state, geometry, ligands_text, isomer, bo
         raise InputError("--out", "give --out DIR (a plain folder) or --archive DIR, not both")
     s = load_full_spec(spec, _overrides(metal, oxidation_state, geometry, ligands_text, isomer, bond_length,
                                         multiplicity),
-                       _method_overrides(theory, basis, solvent, density_fitting, open_shell))
+                       dict(_method_overrides(theory, basis, solvent, density_fitting, open_shell), cubes=cubes))
     start = Path(start_from) if start_from else None
     with ProgressLine(quiet or as_json) as line:
         if out_dir:
-            run = compute(s, Path(out_dir), threads=threads, memory_mb=memory_mb, progress=line, start_from=start)
+            run = compute(s, Path(out_dir), threads=threads, memory_mb=memory_mb, progress=line, start_from=start,
+                          cube_spacing=cube_spacing)
         else:
             from dsplit.archive.store import compute_archived
 
             run = compute_archived(s, archive_dir, recompute=recompute, threads=threads, memory_mb=memory_mb,
-                                   progress=line, start_from=start,
+                                   progress=line, start_from=start, cube_spacing=cube_spacing,
                                    on_wait=lambda: line.stage("waiting: another process is computing this run"))
             if run.cached and not (quiet or as_json):
                 click.echo(f"from the archive: {run.out_dir}", err=True)

@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Any, Callable
 
 from dsplit.errors import InputError
-from dsplit.spec import Spec
+from dsplit.spec import Spec, check_cube_spacing
 
 
 @dataclass
@@ -81,12 +81,16 @@ def _replace_dir(tmp_dir: Path, out_dir: Path) -> None:
 
 def compute(spec: Spec, out_dir: Path, *, threads: int | None = None, memory_mb: int | None = None,
             progress: Callable | None = None, start_from: Path | None = None,
-            estimators: bool = True, write_reports: bool = True) -> RunOutput:
-    """Run the whole job for one spec; files land in ``out_dir`` only when finished."""
+            estimators: bool = True, write_reports: bool = True, cube_spacing: float | None = None) -> RunOutput:
+    """Run the whole job for one spec; files land in ``out_dir`` only when finished.
+
+    ``cube_spacing`` (Å): grid spacing of the cube files that ``spec.method.cubes`` asks for.
+    """
     from dsplit.analysis.orbitals import build_orbital_table
     from dsplit.qc.engine import run_calculation
     from dsplit.report.result import build_result
 
+    spacing = check_cube_spacing(cube_spacing)
     cx, setup = preflight(spec, threads, memory_mb)
     out_dir = Path(out_dir)
     out_dir.parent.mkdir(parents=True, exist_ok=True)
@@ -107,6 +111,7 @@ def compute(spec: Spec, out_dir: Path, *, threads: int | None = None, memory_mb:
         doc = build_result(spec, cx, calc, table, extra)
         if failed:
             doc["warnings"].append(f"estimator calculation not verified, value withheld: {', '.join(failed)}")
+        _write_handoff(spec, calc, table, doc, tmp_dir, spacing, pictures=write_reports)
         _write_geometry(cx, tmp_dir)
         write_json_atomic(tmp_dir / "spec.json", spec.normalised())
         write_json_atomic(tmp_dir / "result.json", doc)
@@ -118,6 +123,17 @@ def compute(spec: Spec, out_dir: Path, *, threads: int | None = None, memory_mb:
         raise
     code = 0 if calc.ok and not doc.get("estimators_failed") else 3
     return RunOutput(doc, out_dir, code)
+
+
+def _write_handoff(spec: Spec, calc, table, doc: dict[str, Any], folder: Path, spacing: float,
+                   pictures: bool) -> None:
+    """Molden, FCIDUMP, reproduce.py, QCSchema, d-orbital pictures (and cubes): listed in doc['handoff']."""
+    from dsplit.report.handoff import write_handoff_files
+
+    rec = write_handoff_files(calc, table, folder, doc=doc, cubes=spec.method.cubes, spacing=spacing,
+                              pictures=pictures)
+    doc["handoff"] = rec.to_dict()
+    doc["provenance"]["timings"]["handoff"] = dict(rec.seconds)
 
 
 def _write_geometry(cx, folder: Path) -> None:

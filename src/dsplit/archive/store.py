@@ -29,7 +29,7 @@ from dsplit.archive.manifest import build_manifest, check_folder, read_json
 from dsplit.archive.paths import (MANIFEST_NAME, archive_root, check_name, default_archive_root, key_versions,
                                   remove_stale_tmp, run_folder, run_id_for, tmp_folder)
 from dsplit.compute_api import RunOutput, write_json_atomic
-from dsplit.spec import Spec
+from dsplit.spec import Spec, check_cube_spacing
 
 __all__ = ["ArchivedRun", "compute_archived", "run_archived", "lookup", "default_archive_root", "archive_run_id"]
 
@@ -137,7 +137,7 @@ def run_archived(spec: Spec, archive: str | Path | None, produce: Callable[[Path
 def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: bool = False, *,
                      threads: int | None = None, memory_mb: int | None = None, progress: Callable | None = None,
                      start_from: Path | None = None, estimators: bool = True, write_reports: bool = True,
-                     on_wait: Callable[[], None] | None = None) -> ArchivedRun:
+                     on_wait: Callable[[], None] | None = None, cube_spacing: float | None = None) -> ArchivedRun:
     """``dsplit.compute_api.compute`` through the archive (cache hit unless ``recompute``).
 
     Threads, memory and the start checkpoint do not enter the run-id; switching the
@@ -147,6 +147,9 @@ def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: b
     from dsplit.compute_api import compute, preflight
 
     options = {k: v for k, v in {"estimators": estimators, "write_reports": write_reports}.items() if not v}
+    check_cube_spacing(cube_spacing)
+    if spec.method.cubes and cube_spacing is not None:  # other cubes than the default: another run
+        options["cube_spacing"] = float(cube_spacing)
     check_name(spec.name)
     if not recompute:  # a hit needs neither validation nor PySCF: the spec was checked when it ran
         root = archive_root(archive, create=False, must_exist=False)
@@ -157,5 +160,6 @@ def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: b
     return run_archived(
         spec, archive,
         lambda out: compute(spec, out, threads=threads, memory_mb=memory_mb, progress=progress,
-                            start_from=start_from, estimators=estimators, write_reports=write_reports),
+                            start_from=start_from, estimators=estimators, write_reports=write_reports,
+                            cube_spacing=cube_spacing),
         kind="compute", options=options, recompute=recompute, on_wait=on_wait)
