@@ -94,7 +94,7 @@ def ground_d_orbitals(calc: Calculation, table) -> tuple[np.ndarray, np.ndarray,
     dm = np.asarray(calc.mf.make_rdm1())
     dm = dm.sum(axis=0) if dm.ndim == 3 else dm
     mo_core, occ_min = core_from_density(calc.mol, dm, mo_active, n_core)
-    spin = {"restricted": "", "alpha": "α "}.get(ch.spin, "")
+    spin = "α " if calc.unrestricted else ""
     what = (f"the {len(idx)} {spin}d-manifold MOs of the ground state; core: {n_core} doubly occupied "
             "natural orbitals of the ground density outside them")
     return mo_core, mo_active, (n_alpha - n_core, n_beta - n_core), occ_min, what

@@ -94,6 +94,7 @@ class DOrbital:
     occupation: float
     metal_d: float  # IAO metal-d share
     frame: str | None  # the frame d orbital it is ≥ FRAME_SHARE of ('xy', 'z2', …), else None
+    spin_resolved: bool = False  # True when α and β MOs differ (unrestricted); ROHF channels share MOs
 
 
 #: an MO is named after one frame d orbital when that orbital holds this share of its d weight
@@ -115,7 +116,7 @@ def d_manifold_orbitals(calc: Calculation, table) -> list[DOrbital]:
             best = int(np.argmax(share[:, j]))
             out.append(DOrbital(ch.spin, k, int(m), ch.donor_irreps.get(m, ch.irreps[m]), float(ch.energies[m]),
                                 float(ch.occupations[m]), float(ch.composition.metal_d[m]),
-                                D_ORBITALS[best] if share[best, j] >= FRAME_SHARE else None))
+                                D_ORBITALS[best] if share[best, j] >= FRAME_SHARE else None, calc.unrestricted))
     return out
 
 
@@ -146,7 +147,7 @@ def orbital_fields(calc: Calculation, orbitals: list[DOrbital], grid: CubeGrid) 
         vals = orbital_values(calc.mol, chans[k][0][:, [o.index for o in mine]], grid)
         for j, o in enumerate(mine):
             v = vals[..., j]
-            spin = "" if o.spin == "restricted" else f"_{o.spin}"
+            spin = f"_{o.spin}" if o.spin_resolved else ""
             out.append(VolumeField(f"d_orbital{spin}_{o.index + 1}", f"MO {o.index + 1}{spin.replace('_', ' ')} "
                                    f"{o.label} E={o.energy_hartree:.6f} Eh", "orbital", v, o,
                                    float((v * v).sum() * grid.volume_element)))

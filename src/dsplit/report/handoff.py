@@ -265,11 +265,11 @@ def write_handoff_files(calc: Calculation, table, folder: Path, *, doc: dict[str
 
 def _bare_job(calc: Calculation, doc: dict[str, Any]) -> dict[str, Any]:
     """The QCSchema input of a run whose SCF did not converge (no recipe to read off)."""
-    from dsplit.qc.recipe import ScfRecipe
+    from dsplit.qc.recipe import ScfRecipe, reference_name
 
     st, mol = calc.setup, calc.mol
     recipe = ScfRecipe(atoms=[], charge=mol.charge, spin=mol.spin, basis=st.basis, ecp=st.ecp, symmetry=False,
-                       symmetry_subgroup=None, group=calc.symmetry_group, reference=type(calc.mf).__name__,
+                       symmetry_subgroup=None, group=calc.symmetry_group, reference=reference_name(calc.mf),
                        xc=None, grid_level=None if st.is_hf else st.grid_level, auxbasis=None, point_charges=[],
                        pcm=None, conv_tol=float(calc.mf.conv_tol), max_cycle=int(calc.mf.max_cycle),
                        energy_hartree=float("nan"), state_by="none", irrep_nelec=None)
@@ -336,7 +336,8 @@ def _write_cubes(calc, table, folder: Path, doc, spacing: float, versions, rec: 
         entry = {"file": name, "kind": f.kind, "title": f.title, "integral": f.integral,
                  "grid": list(grid.shape), "spacing_angstrom": spacing}
         if f.orbital is not None:
-            entry.update({"spin": f.orbital.spin, "mo_index": f.orbital.index, "label": f.orbital.label})
+            o = f.orbital
+            entry.update({"spin": o.spin if o.spin_resolved else "restricted", "mo_index": o.index, "label": o.label})
         rec.cubes.append(entry)
 
 

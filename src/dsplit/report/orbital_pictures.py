@@ -125,7 +125,7 @@ def draw_d_orbitals(calc, table, notes: list[str]) -> list[tuple[str, bytes, dic
         for k, f in enumerate(fields, 1):
             fig = orbital_figure(f.values, grid.origin, grid.spacing, symbols, xyz)
             o = f.orbital
-            meta = {"spin": o.spin, "mo_index": o.index, "label": o.label, "frame_orbital": o.frame,
+            meta = {"spin": o.spin, "spin_resolved": o.spin_resolved, "mo_index": o.index, "label": o.label, "frame_orbital": o.frame,
                     "energy_eV": hartree_to_ev(o.energy_hartree), "occupation": o.occupation, "metal_d": o.metal_d,
                     "isovalue": ISOVALUE}
             out.append((f"d_orbital_{k}.png", figure_bytes(fig, "png", dpi=150), meta))

@@ -116,7 +116,7 @@ def write_reports(doc: dict[str, Any], folder: Path) -> list[Path]:
     pictures = orbital_pictures(doc, folder)
     thumbs = {(p.get("spin"), p.get("mo_index")): pictures[p["file"]]
               for p in (doc.get("handoff") or {}).get("pictures") or [] if p.get("file") in pictures}
-    diagram = functools.partial(level_diagram, thumbnails=thumbs)
+    diagram = functools.partial(level_diagram, thumbnails=thumbs) if thumbs else level_diagram
     drawn = {LEVEL_DIAGRAM: _draw("level diagram", diagram, doc, ("png", "svg"), problems),
              SPIN_STATES: _draw("spin-state", spin_state_figure, doc, ("png",), problems)}
     written: list[Path] = []

@@ -26,7 +26,8 @@ def picture_caption(p: dict[str, Any]) -> str:
     frame = FRAME_NAMES.get(p.get("frame_orbital") or "")
     name = f"{text(p.get('label'))} · {frame}" if frame else text(p.get("label"))
     energy = f"{num(p.get('energy_eV'), 2)}\u00a0eV"
-    return f"{name}{_SPIN.get(p.get('spin'), '')}\n{energy} · metal d {pct(p.get('metal_d'))}\u00a0%"
+    spin = _SPIN.get(p.get("spin"), "") if p.get("spin_resolved") else ""
+    return f"{name}{spin}\n{energy} · metal d {pct(p.get('metal_d'))}\u00a0%"
 
 
 def handoff(doc: dict[str, Any]) -> dict[str, Any]:
@@ -40,7 +41,7 @@ def d_orbitals_section(doc: dict[str, Any], available: set[str]) -> Section | No
     if not pics:
         return None
     iso = pics[0].get("isovalue")
-    spin = pics[0].get("spin")
+    spin = pics[0].get("spin") if pics[0].get("spin_resolved") else None
     blocks: list = [Gallery([Image(p["file"], f"d orbital {text(p.get('label'))}", picture_caption(p))
                              for p in pics])]
     blocks.append(Para(f"Isosurfaces ψ = ±{text(iso)} Bohr⁻³ᐟ² of the ligand-field manifold MOs"
