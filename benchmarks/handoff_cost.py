@@ -5,7 +5,14 @@ Runs ``compute`` on a spec with cube files on and prints, from result.json's own
 plus the size of the files.  Parts: QCSchema, Molden, reproduce.py (text only), the
 FCIDUMP (exact-integral frozen-core Hamiltonian + 5-orbital CASCI), cubes (only with
 ``cubes``), pictures (coarse metal-centred grid, marching cubes, five matplotlib renders).
-Measured numbers are quoted in the final report of the branch that added this script.
+Measured (2026-12, 2 cores shared with other jobs, one thread, B3LYP/def2-SVP, PCM water, cubes at
+0.15 Å, full ``compute``):
+  [TiF6]3−     nao 115: ground SCF 46.9 s; FCIDUMP 0.053×, cubes 0.044×, pictures 0.020×, Molden 0.002×,
+               QCSchema + reproduce.py < 0.001×; all 0.119× (0.075× without cubes); cubes 18.6 MB
+  [V(H2O)6]3+  nao 175: ground SCF 247 s; FCIDUMP 0.029×, cubes 0.012×, pictures 0.002×; all 0.044×
+               (0.032× without cubes); cubes 29.3 MB, orbitals.molden 1.7 MB, each picture ~50 kB
+The FCIDUMP part is one exact-integral J/K build of the core plus a 5-orbital transformation; the
+pictures take about 1 s whatever the basis (a 0.2 Å grid around the metal, five renders).
 Run: python benchmarks/handoff_cost.py [spec] [--threads N] [--no-cubes]
      (default inputs/ti-fluorido-violet.toml: B3LYP/def2-SVP)
 """

@@ -340,6 +340,20 @@ def test_report_embeds_the_d_orbital_pictures(open_run):
     assert frames == {"t2g": {"xy", "yz", "xz"}, "eg": {"z2", "x2-y2"}}
 
 
+def test_level_diagram_shows_one_thumbnail_per_pictured_manifold_orbital(open_run):
+    from matplotlib.offsetbox import AnnotationBbox
+
+    from dsplit.report.figures import level_diagram, style
+
+    folder, doc = open_run
+    thumbs = {(p["spin"], p["mo_index"]): (folder / p["file"]).read_bytes() for p in doc["handoff"]["pictures"]}
+    with style():
+        plain, with_thumbs = level_diagram(doc), level_diagram(doc, thumbnails=thumbs)
+    boxes = [a for a in with_thumbs.axes[0].artists if isinstance(a, AnnotationBbox)]
+    assert len(boxes) == 5 and not [a for a in plain.axes[0].artists if isinstance(a, AnnotationBbox)]
+    assert with_thumbs.get_figwidth() > plain.get_figwidth()
+
+
 def test_without_scikit_image_the_run_still_writes_its_files(closed_calc, tmp_path, monkeypatch):
     from dsplit.report import orbital_pictures
     from dsplit.report.handoff import write_handoff_files

@@ -31,7 +31,8 @@ def _md_table(t: Table) -> list[str]:
 
 
 def _md_image(b: Image) -> list[str]:
-    return [f"![{b.alt}]({b.filename})", ""] + ([f"*{b.caption}*", ""] if b.caption else [])
+    caption = b.caption.replace("\n", " — ")  # a line break would end the emphasis in some readers
+    return [f"![{b.alt}]({b.filename})", ""] + ([f"*{caption}*", ""] if caption else [])
 
 
 def to_markdown(title: str, subtitle: str, sections: list[Section]) -> str:
