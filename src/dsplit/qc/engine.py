@@ -27,7 +27,7 @@ from dsplit.qc.ladder import Progress, RungRecord, lowest_hessian_eigenvalue, ru
 from dsplit.qc.records import Calculation, spin_channels
 from dsplit.qc.resources import pyscf_threads, pyscf_warnings_to_notes
 from dsplit.qc.setup import MethodSetup, build_mole, make_mean_field, memory_estimate_mb
-from dsplit.qc.targeting import irrep_counts, orbital_symmetries, target_occupation
+from dsplit.qc.targeting import irrep_counts, maximum_overlap, orbital_symmetries, target_occupation
 
 MAX_STABILITY_FOLLOWS = 2
 #: cycles plain DIIS and the level shift get in a ground-state ladder before the next rung (oscillating
@@ -180,7 +180,6 @@ def _steer_by_blocks(mf, picks, target_alpha, target_beta, progress, notes):
 
 def _steer_by_overlap(mf, picks, target_alpha, target_beta, progress, notes):
     """Maximum-overlap occupations built on the current orbitals; None if not possible."""
-    from pyscf import scf
 
     chans, closed, occs = _target_occupations(mf, picks, target_alpha, target_beta)
     if not closed and np.asarray(mf.mo_occ).ndim == 1:
@@ -190,7 +189,7 @@ def _steer_by_overlap(mf, picks, target_alpha, target_beta, progress, notes):
         mf.irrep_nelec = {}
     mo0 = chans[0][0] if closed else np.array([chans[0][0], chans[1][0]])
     occ0 = occs[0] if closed else np.array([occs[0], occs[1]])
-    mf = scf.addons.mom_occ(mf, mo0, occ0)
+    mf = maximum_overlap(mf, mo0, occ0)
     notes.append("configuration steered with maximum-overlap occupations (MOM)")
     return run_ladder(mf, mf.make_rdm1(mo0, occ0), progress, rungs=("diis", "level-shift"))
 

@@ -31,7 +31,7 @@ from dsplit.qc.ladder import Progress, run_ladder
 from dsplit.qc.records import Calculation, DeltaScfRecord, TdaRecord, Transition, spin_channels
 from dsplit.qc.resources import pyscf_threads, pyscf_warnings_to_notes
 from dsplit.qc.setup import make_mean_field
-from dsplit.qc.targeting import irrep_counts, orbital_symmetries
+from dsplit.qc.targeting import irrep_counts, maximum_overlap, orbital_symmetries
 
 EXCITED_CONV_TOL = 1e-7  # Eh; the energy error is of this order, below the 1e-5 eV (4e-7 Eh) that ΔSCF values are read to
 #: rungs of an excited-configuration SCF (maximum-overlap occupations hold in all three): a DIIS that
@@ -82,7 +82,6 @@ def run_excited(ground: Calculation, occupations: list[np.ndarray], target_alpha
 
 
 def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, out_dir, tag, progress):
-    from pyscf import scf
 
     t0, c0 = time.perf_counter(), time.process_time()
     cx, setup = ground.complex, ground.setup
@@ -130,7 +129,7 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
                               {ir: (int(round(new[0].get(ir, 0))), int(round(new[1].get(ir, 0)))) for ir in irreps})
             method = "irrep_nelec"
     if method is None:
-        mf = scf.addons.mom_occ(mf, mo_arr, mom_occ)
+        mf = maximum_overlap(mf, mo_arr, mom_occ)
         method = "maximum-overlap"
     dm = mf.make_rdm1(mo_arr, occ_arr)
     mf, rungs = run_ladder(mf, dm, progress, rungs=EXCITED_RUNGS, cycle_caps=EXCITED_CYCLE_CAPS)
@@ -144,7 +143,7 @@ def _run_excited(ground, occupations, target_alpha, target_beta, multiplicity, o
                      + "; retried with maximum overlap")
         mf = make_mean_field(mol, cx, setup, restricted=not unrestricted, template=ground.mf)
         mf.conv_tol = EXCITED_CONV_TOL
-        mf = scf.addons.mom_occ(mf, mo_arr, mom_occ)
+        mf = maximum_overlap(mf, mo_arr, mom_occ)
         method = "maximum-overlap"
         mf, more = run_ladder(mf, mf.make_rdm1(mo_arr, occ_arr), progress, rungs=EXCITED_RUNGS,
                               cycle_caps=EXCITED_CYCLE_CAPS)

@@ -79,3 +79,33 @@ def orbital_symmetries(mf, mo_coeff: np.ndarray) -> list[str] | None:
         return list(symm.label_orb_symm(mol, mol.irrep_name, mol.symm_orb, mo_coeff, check=False))
     except Exception:
         return None
+
+
+def maximum_overlap(mf, mo_coeff: np.ndarray, mo_occ: np.ndarray):
+    """``mf`` holding, every cycle, the orbitals of most overlap with the occupied ``mo_coeff[:, mo_occ > 0]``.
+
+    The maximum-overlap method (Gilbert, Besley & Gill, J. Phys. Chem. A 112, 13164 (2008)):
+    orbital j is occupied when p_j = Σ_i |⟨ψ_i^ref|ψ_j⟩|² is among the largest.  Unrestricted
+    and restricted-open runs use ``pyscf.scf.addons.mom_occ``; the restricted closed shell is
+    done here, because PySCF 2.14's mom_occ gives each chosen orbital one electron there
+    (water RHF/STO-3G: every orbital singly occupied, −46.42 instead of −74.96 Eh; measured).
+    """
+    from pyscf import scf
+
+    if isinstance(mf, (scf.uhf.UHF, scf.rohf.ROHF)):
+        return scf.addons.mom_occ(mf, mo_coeff, mo_occ)
+    occ_ref = np.asarray(mo_occ)
+    reference = np.asarray(mo_coeff)[:, occ_ref > 0]
+    n_doubly = int(np.count_nonzero(occ_ref > 0))
+    overlap = mf.get_ovlp()
+
+    def get_occ(mo_energy=None, mo_coeff=None):
+        c = mf.mo_coeff if mo_coeff is None else mo_coeff
+        s = reference.T @ overlap @ c
+        chosen = np.argsort(np.einsum("ij,ij->j", s, s), kind="stable")[::-1][:n_doubly]
+        occ = np.zeros(c.shape[1])
+        occ[chosen] = 2.0
+        return occ
+
+    mf.get_occ = get_occ
+    return mf

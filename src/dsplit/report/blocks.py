@@ -49,7 +49,14 @@ class Image:
     caption: str = ""
 
 
-Block = Union[Para, Items, Table, Image]
+@dataclass
+class Gallery:
+    """Pictures side by side, each with its own caption (HTML: one row that wraps)."""
+
+    images: list[Image]
+
+
+Block = Union[Para, Items, Table, Image, Gallery]
 
 
 @dataclass

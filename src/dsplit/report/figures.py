@@ -192,8 +192,50 @@ def _title(doc: dict[str, Any]) -> str:
     return f"{line1}\n{line2}"
 
 
-def level_diagram(doc: dict[str, Any]) -> Figure | None:
-    """The orbital level diagram of one run (None when the document has no orbitals)."""
+THUMB_INCHES = 0.56  # d-orbital thumbnail size beside the manifold levels
+THUMB_COLUMN = 1.75  # data units reserved for them (up to three side by side)
+
+
+def _pictured_spin(channels: list[tuple[str, list[LevelSet]]], thumbs: dict[tuple[str, int], bytes]) -> str | None:
+    for spin, sets in channels:
+        if any((spin, o["index"]) in thumbs for s in sets if s.manifold for o in s.orbitals):
+            return spin
+    return None
+
+
+def _draw_thumbnails(ax: Axes, x0: float, sets: list[LevelSet], spin: str, thumbs: dict[tuple[str, int], bytes],
+                     fig_height_in: float) -> None:
+    """Each manifold set's d-orbital pictures in a row at (about) its energy, joined to the level by a line."""
+    import io
+
+    from matplotlib.image import imread
+    from matplotlib.offsetbox import AnnotationBbox, OffsetImage
+
+    rows = [s for s in sets if s.manifold and any((spin, o["index"]) in thumbs for o in s.orbitals)]
+    lo, hi = ax.get_ylim()
+    x_lo, x_hi = ax.get_xlim()
+    bbox = ax.get_position()
+    per_inch_y = (hi - lo) / (bbox.height * fig_height_in)
+    per_inch_x = (x_hi - x_lo) / (bbox.width * ax.figure.get_figwidth())
+    ys = spread_labels([s.energy for s in rows], THUMB_INCHES * 1.08 * per_inch_y)
+    for s, y in zip(rows, ys):
+        pics = [thumbs[(spin, o["index"])] for o in sorted(s.orbitals, key=lambda r: r["index"])
+                if (spin, o["index"]) in thumbs]
+        ax.plot([x0 - 0.28, x0 - 0.05], [s.energy, y], color="#94a3b8", lw=0.5, zorder=2)
+        for k, png in enumerate(pics):
+            img = imread(io.BytesIO(png), format="png")
+            zoom = THUMB_INCHES * 72.0 / img.shape[0]  # OffsetImage draws one pixel per point × zoom
+            box = AnnotationBbox(OffsetImage(img, zoom=zoom), (x0 + (k + 0.5) * THUMB_INCHES * per_inch_x, y),
+                                 frameon=False, box_alignment=(0.5, 0.5), zorder=5)
+            ax.add_artist(box)
+
+
+def level_diagram(doc: dict[str, Any], thumbnails: dict[tuple[str, int], bytes] | None = None) -> Figure | None:
+    """The orbital level diagram of one run (None when the document has no orbitals).
+
+    ``thumbnails`` maps (spin, MO index) to a PNG of that orbital (report/orbital_pictures.py);
+    they are drawn in a column beside the manifold levels of their spin channel.
+    """
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
@@ -202,6 +244,8 @@ def level_diagram(doc: dict[str, Any]) -> Figure | None:
     channels = [(s, sets) for s, sets in channels if sets]
     if not channels:
         return None
+    thumbs = thumbnails or {}
+    pictured = _pictured_spin(channels, thumbs) if is_result(doc) else None
     frag = doc.get("level_diagram") or {}
     metal, ligand = list(frag.get("metal") or []), list(frag.get("ligand") or [])
     energies = [o["energy_eV"] for _, sets in channels for s in sets for o in s.orbitals]
@@ -214,12 +258,17 @@ def level_diagram(doc: dict[str, Any]) -> Figure | None:
     if metal:
         cols.append((f"{text((doc.get('complex') or {}).get('metal'))} (metal)", x))
         x += 1.5
+    thumb_x = None
     for spin, _ in channels:
         cols.append((f"complex {SPIN_NAMES[spin]}" if spin != "restricted" else "complex", x))
         x += 1.6
+        if spin == pictured:
+            thumb_x = x - 0.55
+            x += THUMB_COLUMN
     if ligand:
         cols.append(("ligands", x - 0.1))
-    fig = Figure(figsize=(2.0 + 1.6 * len(cols), 6.8))
+    extra = THUMB_COLUMN if thumb_x is not None else 0.0
+    fig = Figure(figsize=(2.0 + 1.6 * len(cols) + extra, 6.8))
     ax = fig.add_axes((0.1, 0.12, 0.86, 0.75))
     k = 1 if metal else 0
     if metal:
@@ -228,8 +277,13 @@ def level_diagram(doc: dict[str, Any]) -> Figure | None:
         _draw_column(ax, cx, sets, spin, gap)
     if ligand:
         _draw_fragment(ax, cols[-1][1], ligand, LIGAND_COLOUR, "right", gap)
-    ax.set_xlim(cols[0][1] - (1.0 if metal else 0.7), cols[-1][1] + (1.0 if ligand else 0.9))
+    right = cols[-1][1] + (1.0 if ligand else 0.9)
+    if thumb_x is not None:
+        right = max(right, thumb_x + THUMB_COLUMN)
+    ax.set_xlim(cols[0][1] - (1.0 if metal else 0.7), right)
     ax.set_ylim(lo - 0.06 * span, hi + 0.06 * span)
+    if thumb_x is not None:
+        _draw_thumbnails(ax, thumb_x, dict(channels)[pictured], pictured, thumbs, fig.get_figheight())
     ax.set_xticks([c for _, c in cols], [n for n, _ in cols])
     ax.tick_params(axis="x", length=0)
     ax.set_ylabel("orbital energy / eV")

@@ -10,7 +10,7 @@ import base64
 import html
 import re
 
-from dsplit.report.blocks import Image, Items, Para, Section, Table
+from dsplit.report.blocks import Gallery, Image, Items, Para, Section, Table
 
 # ---------------------------------------------------------------- Markdown
 
@@ -30,6 +30,11 @@ def _md_table(t: Table) -> list[str]:
     return out + [""]
 
 
+def _md_image(b: Image) -> list[str]:
+    caption = b.caption.replace("\n", " — ")  # a line break would end the emphasis in some readers
+    return [f"![{b.alt}]({b.filename})", ""] + ([f"*{caption}*", ""] if caption else [])
+
+
 def to_markdown(title: str, subtitle: str, sections: list[Section]) -> str:
     """The report as Markdown (GitHub-style tables); images by relative file name."""
     lines = [f"# {title}", "", subtitle, ""]
@@ -45,7 +50,9 @@ def to_markdown(title: str, subtitle: str, sections: list[Section]) -> str:
             elif isinstance(b, Table):
                 lines += _md_table(b)
             elif isinstance(b, Image):
-                lines += [f"![{b.alt}]({b.filename})", ""] + ([f"*{b.caption}*", ""] if b.caption else [])
+                lines += _md_image(b)
+            elif isinstance(b, Gallery):
+                lines += [line for im in b.images for line in _md_image(im)]
     return "\n".join(lines).rstrip() + "\n"
 
 
@@ -84,6 +91,9 @@ p.alert, li.alert { color:#7f1d1d; font-weight:600; }
 figure { margin:10px 0; }
 figure img { max-width:100%; height:auto; border:1px solid var(--line); border-radius:6px; background:#fff; }
 figcaption { color:var(--muted); font-size:.86rem; }
+.gallery { display:flex; flex-wrap:wrap; gap:10px; }
+.gallery figure { flex:1 1 170px; max-width:230px; margin:4px 0; text-align:center; }
+.gallery figcaption { white-space:pre-line; }
 footer { color:var(--muted); font-size:.8rem; text-align:center; padding:10px; }
 """
 
@@ -123,6 +133,8 @@ def _html_block(b: object, images: dict[str, bytes]) -> str:
         data = base64.b64encode(png).decode("ascii")
         cap = f"<figcaption>{_e(b.caption)}</figcaption>" if b.caption else ""
         return f'<figure><img alt="{_e(b.alt)}" src="data:image/png;base64,{data}">{cap}</figure>'
+    if isinstance(b, Gallery):
+        return '<div class="gallery">' + "".join(_html_block(im, images) for im in b.images) + "</div>"
     raise TypeError(f"unknown block {type(b).__name__}")
 
 

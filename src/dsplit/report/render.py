@@ -8,38 +8,27 @@ A figure that cannot be drawn is named in the report instead of aborting the run
 
 from __future__ import annotations
 
-import os
-import tempfile
+import functools
 from pathlib import Path
 from typing import Any, Callable
 
+from dsplit.report import sections_handoff as hand
 from dsplit.report import sections_results as res
 from dsplit.report import sections_run as run
 from dsplit.report.blocks import Section, text
 from dsplit.report.markup import to_html, to_markdown
+from dsplit.runfolder import write_bytes, write_text
 
 LEVEL_DIAGRAM = "level_diagram"
 SPIN_STATES = "spin_states"
 
 
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
 def write_atomic(path: Path, data: bytes | str) -> None:
-    """Write a file through a temporary sibling and os.replace (no partial file is ever visible)."""
-    raw = data.encode("utf-8") if isinstance(data, str) else data
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".part")
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(raw)
-        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the mode a plain open() would
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    """Write a file whole (dsplit.runfolder: temporary sibling, then os.replace)."""
+    if isinstance(data, str):
+        write_text(path, data)
+    else:
+        write_bytes(path, data)
 
 
 def report_title(doc: dict[str, Any]) -> tuple[str, str]:
@@ -52,8 +41,9 @@ def report_title(doc: dict[str, Any]) -> tuple[str, str]:
 
 
 def build_sections(doc: dict[str, Any], figures: dict[str, str] | None = None,
-                   problems: list[str] | None = None) -> list[Section]:
-    """All report sections in order; ``figures`` maps 'level_diagram'/'spin_states' to PNG file names.
+                   problems: list[str] | None = None, pictures: set[str] | None = None) -> list[Section]:
+    """All report sections in order; ``figures`` maps 'level_diagram'/'spin_states' to PNG file names,
+    ``pictures`` names the d-orbital PNGs at hand.
 
     Splitting, model, check and measured-vs-computed numbers appear only when the
     run converged and its configuration was verified.
@@ -66,11 +56,13 @@ def build_sections(doc: dict[str, Any], figures: dict[str, str] | None = None,
         parts += [res.splitting_section(doc), res.models_section(doc), res.checks_section(doc)]
     parts += [res.measured_section(doc, with_computed=ok)]
     parts += [res.level_diagram_section(figures.get(LEVEL_DIAGRAM), problems or [])]
+    if ok:
+        parts += [hand.d_orbitals_section(doc, pictures or set())]
     parts += [run.frontier_section(doc)]
     if ok:
         parts += [run.manifold_section(doc)]
     parts += [res.spin_states_section(doc, figures.get(SPIN_STATES)), res.optimization_section(doc),
-              run.notes_section(doc), run.provenance_section(doc)]
+              hand.handoff_section(doc), run.notes_section(doc), run.provenance_section(doc)]
     return [p for p in parts if p is not None]
 
 
@@ -88,16 +80,31 @@ def _draw(name: str, make: Callable[[dict[str, Any]], Any], doc: dict[str, Any],
         return {}
 
 
+def orbital_pictures(doc: dict[str, Any], folder: Path) -> dict[str, bytes]:
+    """The d-orbital PNGs the hand-off wrote into ``folder`` (file name → bytes), as listed in the document."""
+    out = {}
+    for p in (doc.get("handoff") or {}).get("pictures") or []:
+        path = folder / str(p.get("file"))
+        if path.is_file():
+            out[path.name] = path.read_bytes()
+    return out
+
+
 def write_reports(doc: dict[str, Any], folder: Path) -> list[Path]:
     """Write report.md, report.html, level_diagram.png/.svg and (with spin states) spin_states.png.
 
-    Returns the paths written, in writing order.
+    The d-orbital pictures listed in ``doc["handoff"]`` are read from ``folder`` and embedded
+    (and drawn beside the manifold levels).  Returns the paths written, in writing order.
     """
     from dsplit.report.figures import level_diagram, spin_state_figure
 
     folder = Path(folder)
     problems: list[str] = []
-    drawn = {LEVEL_DIAGRAM: _draw("level diagram", level_diagram, doc, ("png", "svg"), problems),
+    pictures = orbital_pictures(doc, folder)
+    thumbs = {(p.get("spin"), p.get("mo_index")): pictures[p["file"]]
+              for p in (doc.get("handoff") or {}).get("pictures") or [] if p.get("file") in pictures}
+    diagram = functools.partial(level_diagram, thumbnails=thumbs) if thumbs else level_diagram
+    drawn = {LEVEL_DIAGRAM: _draw("level diagram", diagram, doc, ("png", "svg"), problems),
              SPIN_STATES: _draw("spin-state", spin_state_figure, doc, ("png",), problems)}
     written: list[Path] = []
     for name, formats in drawn.items():
@@ -107,7 +114,8 @@ def write_reports(doc: dict[str, Any], folder: Path) -> list[Path]:
             written.append(path)
     figures = {name: f"{name}.png" for name, formats in drawn.items() if "png" in formats}
     images = {f"{name}.png": formats["png"] for name, formats in drawn.items() if "png" in formats}
-    sections = build_sections(doc, figures, problems)
+    images.update(pictures)
+    sections = build_sections(doc, figures, problems, set(pictures))
     title, subtitle = report_title(doc)
     for fname, body in (("report.md", to_markdown(title, subtitle, sections)),
                         ("report.html", to_html(title, subtitle, sections, images))):
