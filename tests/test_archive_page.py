@@ -232,3 +232,27 @@ def test_spin_gaps_from_a_ladder(tmp_path):
     assert run.ground_multiplicity == 5
     p = parse(tmp_path / PAGE_NAME)
     assert [a["alt"] for t, a in p.tags if t == "img"] == ["spin-state gaps per functional"]  # no Δ: no other view
+
+
+def test_refresh_leaves_the_page_to_a_queued_writer(tmp_path):
+    from dsplit.archive.locks import file_lock, lock_path
+    from dsplit.archive.page import refresh_page
+
+    page_run(tmp_path, "ti-f", "fluorido", {"state": 17000.0})
+    (tmp_path / PAGE_NAME).unlink()
+    with file_lock(lock_path(tmp_path, "page-queue")):  # another committer is queued for the page lock
+        assert refresh_page(tmp_path) is None and not (tmp_path / PAGE_NAME).exists()
+    assert refresh_page(tmp_path) == tmp_path / PAGE_NAME  # nobody queued: this one writes
+
+
+def test_page_command(tmp_path):
+    from click.testing import CliRunner
+
+    from dsplit.cli_archive import archive_group
+
+    page_run(tmp_path, "ti-f", "fluorido", {"state": 17000.0})
+    (tmp_path / PAGE_NAME).unlink()
+    r = CliRunner().invoke(archive_group, ["page", "--archive", str(tmp_path)])
+    assert r.exit_code == 0 and f"wrote {tmp_path / PAGE_NAME} (1 run(s))" in r.output
+    r = CliRunner().invoke(archive_group, ["page", "--archive", str(tmp_path / "nowhere")])
+    assert r.exit_code == 2 and "no archive" in r.output and not (tmp_path / "nowhere").exists()

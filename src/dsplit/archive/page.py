@@ -53,20 +53,20 @@ h2{font-size:1.05rem;margin:22px 0 8px;padding-bottom:4px;border-bottom:2px soli
 .filters{display:flex;flex-wrap:wrap;gap:8px 14px;align-items:end;margin:6px 0 8px;font-size:.82rem;color:var(--soft)}
 .filters label{display:flex;flex-direction:column;gap:2px}
 .filters select,.filters input{font:inherit;color:var(--ink);padding:3px 6px;border:1px solid #a8a29e;border-radius:3px;
-background:#fff;min-width:9em}
+background:#fff;min-width:9em;max-width:18em}
 .filters input{min-width:16em}
 #shown{margin-left:auto;font-variant-numeric:tabular-nums}
 .wrap{overflow-x:auto;background:var(--sheet);border:1px solid var(--rule)}
 table{border-collapse:collapse;width:100%;font-size:.82rem}
 th{position:sticky;top:0;background:#e7e5e4;text-align:left;vertical-align:bottom;border-bottom:2px solid #78716c;
 padding:0}
-th button{all:unset;box-sizing:border-box;display:block;width:100%;padding:6px 8px;cursor:pointer;font-weight:600;
+th button{all:unset;box-sizing:border-box;display:block;width:100%;padding:6px 7px;cursor:pointer;font-weight:600;
 white-space:nowrap}
 th button:focus-visible{outline:2px solid var(--link)}
 th[aria-sort=ascending] button::after{content:" \\25B2";color:var(--gold)}
 th[aria-sort=descending] button::after{content:" \\25BC";color:var(--gold)}
-td{padding:5px 8px;border-bottom:1px solid #e7e5e4;vertical-align:top}
-td:first-child{min-width:15em}
+td{padding:4px 7px;border-bottom:1px solid #e7e5e4;vertical-align:top}
+td:first-child{min-width:11em;max-width:20em;overflow-wrap:anywhere}
 td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 tbody tr:hover td{background:#fef9c3}
 tr[hidden]{display:none}
@@ -130,7 +130,7 @@ SCRIPT = """(function () {
     var want = text.value.trim().toLowerCase(), n = 0;
     rows.forEach(function (r) {
       var ok = (!pick.metal.value || r.getAttribute("data-metal") === pick.metal.value)
-        && (!pick.ligand.value || r.getAttribute("data-ligands").split(" ").indexOf(pick.ligand.value) >= 0)
+        && (!pick.ligand.value || r.getAttribute("data-ligands").split("|").indexOf(pick.ligand.value) >= 0)
         && (!pick.method.value || r.getAttribute("data-method") === pick.method.value)
         && (!pick.state.value || r.getAttribute("data-state") === pick.state.value)
         && (!want || (r.textContent + " " + r.getAttribute("data-search")).toLowerCase().indexOf(want) >= 0);
@@ -188,7 +188,9 @@ def _complex_cell(r: PageRun) -> str:
     if r.has_report and r.state != MISSING:
         href = "/".join(quote(part, safe="") for part in (r.name, r.run_id)) + "/report.html"
         name = f'<a href="{_attr(href)}">{name}</a>'
-    extra = f'<span class="sub">{_e(r.formula)}{" · " + _e(r.kind) if r.kind and r.kind != "compute" else ""}</span>'
+    kind = f" · {_e(r.kind)}" if r.kind and r.kind != "compute" else ""
+    gone = " · no report.html" if not r.has_report and r.state != MISSING else ""
+    extra = f'<span class="sub">{_e(r.formula)}{kind}{gone}</span>'
     note = f'<span class="note">bands: {_e(r.note)}</span>' if r.note else ""
     return _cell(name + extra + note, r.name)
 
@@ -220,7 +222,7 @@ def run_row(r: PageRun, estimators: list[str]) -> str:
         _cell(_e(r.created[:16].replace("T", " ")) or _missing(), r.created),
     ]
     search = " ".join([r.folder, r.run_id, r.kind, " ".join(r.ligands), r.note]).lower()
-    return (f'<tr data-metal="{_attr(r.metal)}" data-ligands="{_attr(" ".join(sorted(r.ligands)))}" '
+    return (f'<tr data-metal="{_attr(r.metal)}" data-ligands="{_attr("|".join(sorted(r.ligands)))}" '
             f'data-method="{_attr(r.method)}" data-state="{_attr(r.state)}" data-search="{_attr(search)}">'
             + "".join(cells) + "</tr>")
 
