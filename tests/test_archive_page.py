@@ -97,8 +97,15 @@ def parse(path: Path) -> _Parse:
     return p
 
 
-def test_commit_writes_page_with_every_run(tmp_path):
-    runs = small_archive(tmp_path)
+@pytest.fixture(scope="module")
+def shared(tmp_path_factory):
+    """small_archive for the tests that only read it."""
+    root = tmp_path_factory.mktemp("page")
+    return root, small_archive(root)
+
+
+def test_commit_writes_page_with_every_run(shared):
+    tmp_path, runs = shared
     page = tmp_path / PAGE_NAME
     assert page.is_file()  # written by the commit hook, no command run
     p = parse(page)
@@ -208,8 +215,8 @@ def test_series_order_against_the_textbook():
     assert same.swapped == () and same.not_in_series == ("point",)
 
 
-def test_series_groups_from_runs(tmp_path):
-    small_archive(tmp_path)
+def test_series_groups_from_runs(shared):
+    tmp_path, _ = shared
     groups = series_views(collect(tmp_path).runs)
     assert len(groups) == 2  # Ti(III) with three ligands, Fe(II) with two (V(III) is unverified)
     ti = {v.estimator: v for v in groups[0]}

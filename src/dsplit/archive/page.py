@@ -24,7 +24,7 @@ from typing import Any, Callable
 from urllib.parse import quote
 
 from dsplit.archive.page_data import DAMAGED, MISSING, NOT_VERIFIED, VERIFIED, ArchiveSnapshot, PageRun, collect
-from dsplit.archive.page_figures import CAUTION, RECOMMENDED, SeriesView, metal_label
+from dsplit.archive.page_figures import CAUTION, SeriesView, metal_label
 
 PAGE_NAME = "index.html"
 _e = html.escape
@@ -206,6 +206,7 @@ def run_row(r: PageRun, estimators: list[str]) -> str:
     """One <tr> of the runs table (every value escaped; data- attributes feed the filters)."""
     d = r.d_electrons
     group = r.point_group + (f" (orbitals {r.orbital_group})" if r.orbital_group else "")
+    ladder = '<span class="sub">ladder ground</span>' if r.kind == "spin-states" else ""
     cells = [
         _complex_cell(r),
         _cell(_e(metal_label(r.metal, r.oxidation_state)) or _missing(),
@@ -213,7 +214,7 @@ def run_row(r: PageRun, estimators: list[str]) -> str:
         _cell(f"d{str(d).translate(_SUP)}" if d is not None else _missing(), d, numeric=True),
         _cell(f"{_e(r.geometry) or _missing()}<span class=\"sub\">{_e(group)}</span>", f"{r.geometry} {group}"),
         _cell(f"{_e(r.theory)}<span class=\"sub\">{_e(r.basis)} · {_e(r.solvent)}</span>", r.method),
-        _cell(str(r.ground_multiplicity) if r.ground_multiplicity is not None else
+        _cell(str(r.ground_multiplicity) + ladder if r.ground_multiplicity is not None else
               _missing("" if r.shows_values else f"withheld: run {r.state}"), r.ground_multiplicity, numeric=True),
         _delta_cell(r.recommended_cm1, r, r.recommended_estimator),
         *[_delta_cell(r.deltas_cm1.get(est), r) for est in estimators],
@@ -231,7 +232,8 @@ def _headers(estimators: list[str]) -> list[tuple[str, str, str]]:
     """(header, type, tooltip) per column, in run_row's order."""
     return ([("complex", "text", "name (link to its report), formula, note"), ("metal", "text", "oxidation state"),
              ("dⁿ", "num", "d-electron count"), ("geometry", "text", "geometry · point group"),
-             ("method", "text", "theory · basis · solvent"), ("2S+1", "num", "ground-state multiplicity"),
+             ("method", "text", "theory · basis · solvent"),
+             ("2S+1", "num", "spin multiplicity of the computed state; for a spin-state ladder the lowest state's"),
              ("Δ recommended", "num", "the run's recommended Δ and the estimator it came from")]
             + [(f"Δ {est}", "num", f"Δ from the {est} estimator; band wavelength λ = 1/Δ") for est in estimators]
             + [("agrees", "num", "checks that agree"), ("differs", "num", "checks that differ"),
@@ -275,14 +277,17 @@ def _tally(runs: tuple[PageRun, ...]) -> str:
 
 
 def _swap_lines(groups: list[list[SeriesView]]) -> str:
+    """One line per group: the estimators that keep the textbook order, then each one that swaps a pair."""
     items = []
     for views in groups:
-        for v in views:
-            what = ("; ".join(f"{b} below {a}" for a, b in v.swapped) + " (textbook: the reverse)"
-                    if v.swapped else "same order as the textbook")
-            extra = f"; not in the series: {', '.join(v.not_in_series)}" if v.not_in_series else ""
-            cls = ' class="swap"' if v.swapped else ""
-            items.append(f"<li{cls}>{_e(v.group)} — {_e(v.estimator)}: {_e(what + extra)}</li>")
+        same = [v.estimator for v in views if not v.swapped]
+        parts = [f"{', '.join(same)}: same order as the textbook"] if same else []
+        parts += [f"{v.estimator}: " + "; ".join(f"{b} below {a}" for a, b in v.swapped) + " (textbook: the reverse)"
+                  for v in views if v.swapped]
+        outside = sorted({k for v in views for k in v.not_in_series})
+        parts += [f"not in the series: {', '.join(outside)}"] if outside else []
+        cls = ' class="swap"' if any(v.swapped for v in views) else ""
+        items.append(f"<li{cls}><b>{_e(views[0].group)}</b> — {_e(' · '.join(parts))}</li>")
     return f"<ul>{''.join(items)}</ul>"
 
 
@@ -290,7 +295,8 @@ def _figure(png: bytes | None, alt: str, caption: str, empty: str) -> str:
     if png is None:
         return f'<figure><figcaption><b>{_e(alt)}</b>: {empty}</figcaption></figure>'
     data = base64.b64encode(png).decode("ascii")
-    return f'<figure><img alt="{_attr(alt)}" src="data:image/png;base64,{data}"><figcaption>{caption}</figcaption></figure>'
+    img = f'<img alt="{_attr(alt)}" src="data:image/png;base64,{data}">'
+    return f"<figure>{img}<figcaption>{caption}</figcaption></figure>"
 
 
 def _draw(make: Callable[[], Any], problems: list[str], what: str) -> bytes | None:
