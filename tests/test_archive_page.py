@@ -233,10 +233,19 @@ def test_spin_gaps_from_a_ladder(tmp_path):
               for t, m, e in (("HF", 1, 120.0), ("HF", 5, 0.0), ("B3LYP", 1, 0.0), ("B3LYP", 5, 35.5))]
     page_run(tmp_path, "fe-aq-ladder", "aqua", {}, metal="Fe", ox=2,
              extra={"spin_states": states, "ground_multiplicity": 5})
-    run = collect(tmp_path).runs[0]
+    partial = [{"theory": t, "multiplicity": m, "relative_kJmol": e, "verified": ok}
+               for t, m, e, ok in (("HF", 1, 594.4, True), ("HF", 5, 0.0, True), ("B3LYP", 1, 0.0, True),
+                                   ("B3LYP", 5, None, False))]
+    page_run(tmp_path, "fe-aq-partial", "aqua", {}, metal="Fe", ox=2, verified=False,
+             extra={"spin_states": partial, "ground_multiplicity": 5})
+    runs = {r.name: r for r in collect(tmp_path).runs}
+    run = runs["fe-aq-ladder"]
     # gap = E(2S+1 = 5) − E(2S+1 = 1) from the ladder's own relative energies (kJ/mol)
     assert [(g.theory, g.gap_kjmol) for g in run.spin_gaps] == [("HF", -120.0), ("B3LYP", 35.5)]
     assert run.ground_multiplicity == 5
+    part = runs["fe-aq-partial"]  # the B3LYP quintet failed: that functional gives no gap, the run no ground
+    assert part.state == NOT_VERIFIED and part.ground_multiplicity is None
+    assert [(g.theory, g.gap_kjmol) for g in part.spin_gaps] == [("HF", -594.4)]
     p = parse(tmp_path / PAGE_NAME)
     assert [a["alt"] for t, a in p.tags if t == "img"] == ["spin-state gaps per functional"]  # no Δ: no other view
 

@@ -330,13 +330,14 @@ def _views(snap: ArchiveSnapshot, problems: list[str]) -> str:
                          "Every verified run's Δ (each estimator, and the recommended one where given) against its "
                          "count-weighted mean metal–ligand distance.", "no verified run with a Δ yet"))
     gaps = _draw(lambda: pf.spin_gap_figure(snap.runs), problems, "the spin-state figure")
-    n_ladders = sum(1 for r in snap.runs if r.shows_values and r.spin_gaps)
+    n_ladders = sum(1 for r in snap.runs if r.spin_gaps)
     more = (f" The newest {pf.MAX_LADDERS} of {n_ladders} ladders are drawn." if n_ladders > pf.MAX_LADDERS
             else "")
     parts.append(_figure(gaps, "spin-state gaps per functional",
-                         "E(highest 2S+1) − E(lowest 2S+1) of each functional in every verified spin-state ladder "
-                         f"(dsplit spin-states runs), from the ladder's own relative energies.{more}",
-                         "no verified spin-state ladder in this archive yet"))
+                         "E(highest 2S+1) − E(lowest 2S+1) of each functional in every spin-state ladder "
+                         "(dsplit spin-states runs), from the ladder's own relative energies; a functional is drawn "
+                         "only when both of its states are verified (* marks a ladder with an unverified state)."
+                         f"{more}", "no spin-state ladder with a verified pair of states in this archive yet"))
     return f'<div class="views">{"".join(parts)}</div>'
 
 

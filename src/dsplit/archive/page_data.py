@@ -71,7 +71,7 @@ class PageRun:
     created: str = ""
     note: str = ""  # free text from the user's spec (the measured bands' source)
     mean_distance: float | None = None  # Å, mean metal–donor distance over the ligands
-    spin_gaps: tuple[SpinGap, ...] = ()
+    spin_gaps: tuple[SpinGap, ...] = ()  # pairs of verified states, also from a ladder with unverified ones
 
     @property
     def method(self) -> str:
@@ -200,7 +200,7 @@ def run_from_folder(folder: Path, indexed: bool) -> PageRun:
         created=_str(manifest.get("created")),
         note=_str((spec.get("experiment") or {}).get("source") if isinstance(spec.get("experiment"), dict) else ""),
         mean_distance=_mean_distance(doc, ligands) if show else None,
-        spin_gaps=_spin_gaps(doc) if show else (),
+        spin_gaps=_spin_gaps(doc) if state in (VERIFIED, NOT_VERIFIED) else (),  # per state: only verified pairs
     )
 
 

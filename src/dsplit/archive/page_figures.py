@@ -210,14 +210,14 @@ def distance_figure(runs: Iterable[PageRun]) -> Figure | None:
 
 
 def spin_gap_figure(runs: Iterable[PageRun]) -> Figure | None:
-    """E(high spin) − E(low spin) / kJ mol⁻¹ per functional for every verified spin-state ladder
-    (horizontal bars, newest ladder on top; at most MAX_LADDERS)."""
+    """E(high spin) − E(low spin) / kJ mol⁻¹ per functional of every spin-state ladder, from pairs of
+    verified states only (* marks a ladder with unverified states); newest on top, at most MAX_LADDERS."""
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
 
     from dsplit.report.figures import THEORY_COLOURS
 
-    ladders = [r for r in runs if r.shows_values and r.spin_gaps][:MAX_LADDERS]
+    ladders = [r for r in runs if r.spin_gaps][:MAX_LADDERS]
     if not ladders:
         return None
     theories = list(dict.fromkeys(g.theory for r in ladders for g in r.spin_gaps))
@@ -234,8 +234,8 @@ def spin_gap_figure(runs: Iterable[PageRun]) -> Figure | None:
             ax.annotate(f"{g.gap_kjmol:.0f}", (g.gap_kjmol, yt), xytext=(3 if g.gap_kjmol >= 0 else -3, 0),
                         textcoords="offset points", ha="left" if g.gap_kjmol >= 0 else "right", va="center",
                         fontsize=6)
-    ax.set_yticks(range(len(ladders)), [f"{_short(r.name)} · {r.formula} · {r.basis}" for r in reversed(ladders)],
-                  fontsize=6.5)
+    names = [f"{_short(r.name)} · {r.formula} · {r.basis}" + ("" if r.shows_values else " *") for r in ladders]
+    ax.set_yticks(range(len(ladders)), names[::-1], fontsize=6.5)
     ax.set_ylim(-0.6, len(ladders) - 0.4)
     ax.set_xlabel("E(high spin) − E(low spin) / kJ mol⁻¹")
     ax.set_title("right of 0: low spin lies lower · left of 0: high spin lies lower", fontsize=7.5, color=MUTED)
