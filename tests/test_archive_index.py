@@ -156,6 +156,8 @@ def test_four_processes_write_at_once(tmp_path):
                          capture_output=True, text=True, check=True)
     assert out.stdout.split()[0] == str(4 * n)
     assert verify_archive(root).ok
+    # the page writers queue (dsplit.archive.page): the last page written holds every run
+    assert (root / "index.html").read_text(encoding="utf-8").count('data-state="verified"') == 4 * n
 
 
 _TWIN = textwrap.dedent("""

@@ -115,3 +115,19 @@ def test_default_archive_root(monkeypatch, tmp_path):
     monkeypatch.delenv("DSPLIT_ARCHIVE")
     monkeypatch.chdir(tmp_path)
     assert default_archive_root() == tmp_path / "dsplit-archive"
+
+
+def test_commit_refreshes_the_archive_page(first_run):
+    """The commit rewrote <archive>/index.html with this run's row: its Δ values as result.json holds them."""
+    from dsplit.archive.page import PAGE_NAME
+    from dsplit.archive.page_data import VERIFIED, collect
+
+    root, spec, run, _ = first_run
+    row = next(r for r in collect(root).runs if r.run_id == run.run_id)
+    assert row.state == VERIFIED and row.has_report and row.formula == run.result["complex"]["formula"]
+    want = {est: block["delta_cm1"] for est, block in (run.result.get("splitting") or {}).items()
+            if isinstance(block, dict) and block.get("delta_cm1") is not None}
+    assert row.deltas_cm1 == want
+    page = (root / PAGE_NAME).read_text(encoding="utf-8")
+    assert f'href="{spec.name}/{run.run_id}/report.html"' in page
+    assert all(f"{v:,.0f} cm⁻¹" in page for v in want.values())

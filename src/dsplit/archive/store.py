@@ -9,7 +9,7 @@
           add the archive block to result.json, write manifest.json last
           rename tmp → <archive>/<name>/<run-id>  (atomic; an interrupted run never
                                                    looks finished)
-          add the index row
+          add the index row, rewrite <archive>/index.html (dsplit.archive.page)
 
 A folder counts as a finished run only if its manifest exists and result.json
 matches the SHA-256 recorded there.
@@ -142,6 +142,8 @@ def run_archived(spec: Spec, archive: str | Path | None, produce: Callable[[Path
             return _load_if_intact(root, final, reindex=True) or ArchivedRun(result, final, int(out.exit_code),
                                                                              run_id=run_id)
     from dsplit.archive import index
+    from dsplit.archive.page import refresh_page
 
     index.add_run_or_warn(root, final, result, manifest)  # the run folder stays whatever the index does
+    refresh_page(root)  # the archive's index.html; never raises (a warning line on failure)
     return ArchivedRun(result, final, int(out.exit_code), cached=False, run_id=run_id)

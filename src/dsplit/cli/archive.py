@@ -1,4 +1,4 @@
-"""``dsplit archive …`` (list, show, compare, verify, rebuild-index) and ``dsplit study``.
+"""``dsplit archive …`` (list, show, compare, verify, page, rebuild-index) and ``dsplit study``.
 
 Heavy modules are imported inside the commands.
 """
@@ -132,6 +132,20 @@ def verify_cmd(archive_dir) -> None:
     for line in rep.lines():
         click.echo(line)
     sys.exit(0 if rep.ok else 1)
+
+
+@archive_group.command("page")
+@_archive_dir
+@handles_errors
+def page_cmd(archive_dir) -> None:
+    """Write ARCHIVE/index.html: every run in one sortable, filterable page, with views across runs.
+
+    The page is also rewritten after every run committed to the archive.
+    """
+    from dsplit.archive.page import write_page
+
+    path, n = write_page(_root(archive_dir))
+    click.echo(f"wrote {path} ({n} run(s))")
 
 
 @archive_group.command("rebuild-index")
