@@ -61,11 +61,14 @@ def test_aom_mixed_ligands_lower_the_symmetry():
     assert sum(s["degeneracy"] * s["multiplicity"] for s in cis["states"]) == 45  # C(10, 8)
 
 
-def test_terms_table_and_figures(tmp_path):
+@pytest.mark.parametrize("columns", ["80", "160"])
+def test_terms_table_and_figures(tmp_path, monkeypatch, columns):
+    # an 80-column terminal (CI sets COLUMNS) must still show the headers and numbers uncut
+    monkeypatch.setenv("COLUMNS", columns)
     png, svg = tmp_path / "t.png", tmp_path / "t.svg"
     result = _run("--d", "6", "--delta", "20000", "--B", "650", "--C-over-B", "4.8", "--figure", str(png))
     assert result.exit_code == 0, result.output
-    assert "E / cm⁻¹" in result.output and "¹A1g" in result.output
+    assert "E / cm⁻¹" in result.output and "¹A1g" in result.output and "…" not in result.output
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert _run("--d", "2", "--geometry", "tetrahedral", "--delta", "4000", "--B", "700", "--figure",
                 str(svg)).exit_code == 0

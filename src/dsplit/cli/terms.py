@@ -79,9 +79,10 @@ def _print(result) -> None:
         out.print(f"d{result.d_count} {result.geometry}{group}: Δ = {_num(result.delta_cm1)} cm⁻¹, "
                   f"B = {_num(result.b_cm1)} cm⁻¹, C = {_num(result.c_cm1)} cm⁻¹ {ratio}".rstrip())
         t = Table(title="ligand-field terms (energy above the ground term)")
-        for col in ("term", "2S+1", "irrep", "states (spin × space)", "E / cm⁻¹", "E / eV", "λ / nm",
-                    "spin-allowed", "leading configuration (weight)"):
-            t.add_column(col)
+        # numbers never wrap or get cut to "…" in a narrow terminal; the configuration column folds
+        for col in ("term", "2S+1", "irrep", "states", "E / cm⁻¹", "E / eV", "λ / nm", "allowed"):
+            t.add_column(col, no_wrap=True)
+        t.add_column("configuration (weight)", overflow="fold", min_width=12)
         for term in spec.terms:
             conf = ", ".join(f"{c} {w:.2f}" for c, w in term.configurations[:2])
             lam = _num(cm1_to_nm(term.energy)) if term.energy > 1e-6 else "—"
