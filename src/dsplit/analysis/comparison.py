@@ -35,8 +35,11 @@ def four_ninths_from_aom() -> float:
     return float((w_td[-1] - w_td[0]) / (w_oh[-1] - w_oh[0]))
 
 
-def _best_delta_ev(splitting: dict[str, Any]) -> tuple[str | None, float | None]:
-    """The state estimator when it has a value, else the excitation one (never the orbital one)."""
+def _best_delta_ev(splitting: dict[str, Any], recommended: dict[str, Any] | None = None
+                   ) -> tuple[str | None, float | None]:
+    """The recommended Δ; without one the state estimator, else the excitation one (never the orbital one)."""
+    if recommended and recommended.get("delta_eV") is not None:
+        return str(recommended.get("estimator")), float(recommended["delta_eV"])
     for name in ("state", "excitation"):
         v = (splitting.get(name) or {}).get("delta_eV")
         if v is not None:
@@ -64,12 +67,18 @@ def _computed_sets(table, splitting: dict[str, Any]) -> tuple[list[str] | None, 
     return order, degs, "restricted-open orbitals"
 
 
-def compare(spec, cx, calc, table, splitting: dict[str, Any]) -> tuple[dict[str, Any], list[dict[str, Any]]]:
-    """(models, checks) documents for result.json."""
+def compare(spec, cx, calc, table, splitting: dict[str, Any], recommended: dict[str, Any] | None = None,
+            ligand_field: dict[str, Any] | None = None) -> tuple[dict[str, Any], list[dict[str, Any]]]:
+    """(models, checks) documents for result.json.
+
+    ``recommended``: the one recommended Δ (analysis.multiplet_estimate.recommend); every
+    estimator is checked against it.  ``ligand_field``: the multiplet fit; its five fitted d
+    levels and vectors over-determine the AOM, so the AOM fit is made to them when present.
+    """
     sets = cx.d_sets
     model_e = np.array([s.energy for s in sets])
     degs = np.array([s.degeneracy for s in sets])
-    source, delta_ev = _best_delta_ev(splitting)
+    source, delta_ev = _best_delta_ev(splitting, recommended)
     predictions: dict[str, Any] = {
         "set_order": [s.label for s in sets], "degeneracies": [int(g) for g in degs],
         "delta_t_over_delta_o": four_ninths_from_aom(),
@@ -91,7 +100,7 @@ def compare(spec, cx, calc, table, splitting: dict[str, Any]) -> tuple[dict[str,
     predictions["cfse"] = cfse
     predictions["expected_ground_multiplicity"] = _expected_multiplicity(cx)
 
-    fit_doc, fit = _aom_fit(cx, table, splitting, delta_ev)
+    fit_doc, fit = _aom_fit(cx, table, splitting, delta_ev, ligand_field)
     models = {"predictions": predictions, "aom_fit": fit_doc, "delta_source": source}
 
     checks: list[ck.Check] = []
@@ -104,17 +113,40 @@ def compare(spec, cx, calc, table, splitting: dict[str, Any]) -> tuple[dict[str,
                                f"framework's {table.framework_group}: its sets split"))
     else:
         checks.append(ck.compare_degeneracy_pattern([int(g) for g in degs], comp_degs))
-    checks.append(ck.estimators_agree({k: (splitting.get(k) or {}).get("delta_eV") for k in ("state", "excitation")}))
+    checks.append(ck.estimators_agree({k: (splitting.get(k) or {}).get("delta_eV")
+                                       for k in ("state", "excitation", "multiplet")}))
+    checks += _against_recommended(splitting, recommended, table.open_shell)
     checks.append(ck.fit_residual_check(fit))
     checks.append(ck.four_ninths_check(None, None))
     spin_states = None
     checks.append(ck.spin_state_check(spin_states, predictions["expected_ground_multiplicity"]))
-    for band in spec.experiment.measured_bands_cm1:
-        for name in ("orbital", "state", "excitation"):
+    for band in spec.experiment.measured_bands_cm1[:1]:  # the first measured band against each Δ
+        for name in ("orbital", "state", "excitation", "multiplet"):
             v = (splitting.get(name) or {}).get("delta_cm1")
             c = ck.measured_band_check(v, band)
             checks.append(ck.Check(f"measured band vs {name}", c.verdict, c.numbers, c.detail))
     return models, [_check_doc(c) for c in checks]
+
+
+def _against_recommended(splitting: dict[str, Any], recommended: dict[str, Any] | None,
+                         open_shell: bool) -> list[ck.Check]:
+    """Every other estimator's Δ against the recommended one (within 15 %, common practice)."""
+    if not recommended or recommended.get("delta_cm1") is None:
+        return []
+    chosen, ref = recommended["estimator"], float(recommended["delta_cm1"])
+    out = []
+    for name in ("orbital", "state", "excitation", "multiplet"):
+        entry = splitting.get(name) or {}
+        if name == chosen or not entry:
+            continue
+        label = f"{name} Δ vs recommended ({chosen})"
+        if name == "orbital" and open_shell:
+            out.append(ck.Check(label, ck.NOT_APPLICABLE, {"delta_cm1": entry.get("delta_cm1"), "recommended_cm1": ref},
+                                "an open-shell orbital gap is not a state energy (it may be twice the band or more)"))
+            continue
+        c = ck.estimators_agree({name: entry.get("delta_cm1"), chosen: ref})
+        out.append(ck.Check(label, c.verdict, c.numbers, c.detail))
+    return out
 
 
 def _expected_multiplicity(cx) -> int:
@@ -125,11 +157,19 @@ def _expected_multiplicity(cx) -> int:
     return m
 
 
-def _aom_fit(cx, table, splitting, delta_ev) -> tuple[dict[str, Any], Any]:
-    """Fit eσ/eπ: two-set geometries to the state/excitation Δ; others to closed-shell orbital levels."""
+def _aom_fit(cx, table, splitting, delta_ev, ligand_field=None) -> tuple[dict[str, Any], Any]:
+    """Fit eσ/eπ: to the multiplet fit's five d levels and vectors when there are some; else two-set
+    geometries to the recommended Δ and others to closed-shell orbital levels."""
+    from dsplit.units import cm1_to_ev
+
     dirs = np.array([pl.direction for pl in cx.ligands])
     types = [pl.ligand.key for pl in cx.ligands]
     sets = cx.d_sets
+    h = (ligand_field or {}).get("h_cm1")
+    if h is not None:
+        w, v = np.linalg.eigh(cm1_to_ev(1.0) * np.asarray(h, dtype=float))
+        fit = fit_aom(dirs, w, ligand_types=types, reference="mean", vectors=v)
+        return _aom_doc(fit, "the five d levels and vectors of the multiplet fit"), fit
     if len(sets) == 2 and delta_ev is not None:
         levels = [0.0] * sets[0].degeneracy + [delta_ev] * sets[1].degeneracy
         source = "state/excitation Δ"
@@ -142,7 +182,11 @@ def _aom_fit(cx, table, splitting, delta_ev) -> tuple[dict[str, Any], Any]:
     if len(levels) != 5:
         return {"note": f"manifold has {len(levels)} levels, not 5"}, None
     fit = fit_aom(dirs, levels, ligand_types=types, reference="mean")
+    return _aom_doc(fit, source), fit
+
+
+def _aom_doc(fit, source: str) -> dict[str, Any]:
     return {"fitted_to": source, "unit": "eV", "e_sigma": {str(k): v for k, v in fit.e_sigma.items()},
             "e_pi": {str(k): v for k, v in fit.e_pi.items()}, "rms": fit.rms, "separable": fit.separable,
-            "note": fit.note, "predicted_levels": [float(x) for x in fit.predicted],
-            "target_levels": [float(x) for x in fit.target]}, fit
+            "overdetermined": fit.overdetermined, "note": fit.note,
+            "predicted_levels": [float(x) for x in fit.predicted], "target_levels": [float(x) for x in fit.target]}

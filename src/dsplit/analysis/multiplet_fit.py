@@ -65,7 +65,7 @@ class LigandFieldFit:
 
     def to_dict(self) -> dict[str, Any]:
         """The result.json ``ligand_field`` block."""
-        return {"delta_cm1": self.delta_cm1, "B_cm1": self.b_cm1, "C_cm1": self.c_cm1, "beta": self.beta,
+        return {"delta_cm1": self.delta_cm1, "h_cm1": np.asarray(self.h_cm1).tolist(), "B_cm1": self.b_cm1, "C_cm1": self.c_cm1, "beta": self.beta,
                 "residual_cm1": self.residual_cm1, "levels_cm1": list(self.levels_cm1),
                 "level_sets": list(self.level_sets), "set_energies_cm1": dict(self.set_energies_cm1),
                 "source": self.source, "fitted": list(self.fitted), "held": dict(self.held),

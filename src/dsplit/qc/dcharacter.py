@@ -21,11 +21,27 @@ from dsplit.models.aom import D_ORBITALS
 _PYSCF_D_NAMES = {"xy": "xy", "yz": "yz", "z^2": "z2", "xz": "xz", "x2-y2": "x2-y2"}
 
 
-def metal_d_indices(mol, metal_atom: int = 0) -> dict[str, list[int]]:
-    """AO indices of each real d component (all d shells) on the metal."""
+def valence_d_shell(mol, metal_atom: int = 0) -> str:
+    """PySCF's label of the metal's valence d shell: "3d", "4d" or "5d" (period − 1).
+
+    PySCF numbers shells after an ECP core (``mol.ao_labels``), so the label is the same with
+    and without an ECP; in meta-Löwdin AOs that shell is the valence (minimal-basis-like) one.
+    """
+    from ase.data import atomic_numbers
+
+    z = atomic_numbers[mol.atom_pure_symbol(metal_atom)]
+    period = 4 if z <= 36 else 5 if z <= 54 else 6 if z <= 86 else 7
+    return f"{period - 1}d"
+
+
+def metal_d_indices(mol, metal_atom: int = 0, valence_only: bool = False) -> dict[str, list[int]]:
+    """AO indices of each real d component on the metal: all d shells, or only the valence one
+    (``valence_only``; without an ECP a 4d/5d metal's filled inner d shells are left out)."""
+    valence = valence_d_shell(mol, metal_atom) if valence_only else None
     out: dict[str, list[int]] = {k: [] for k in D_ORBITALS}
     for i, (atom, _sym, shell, comp) in enumerate(mol.ao_labels(fmt=False)):
-        if atom == metal_atom and shell.endswith("d") and comp in _PYSCF_D_NAMES:
+        if atom == metal_atom and shell.endswith("d") and comp in _PYSCF_D_NAMES \
+                and (valence is None or shell == valence):
             out[_PYSCF_D_NAMES[comp]].append(i)
     return out
 
