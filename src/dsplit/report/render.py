@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Any, Callable
 
 from dsplit.report import sections_handoff as hand
+from dsplit.report import sections_multiplet as mult
 from dsplit.report import sections_results as res
 from dsplit.report import sections_run as run
 from dsplit.report.blocks import Section, text
@@ -53,7 +54,8 @@ def build_sections(doc: dict[str, Any], figures: dict[str, str] | None = None,
     parts: list[Section | None] = [run.status_section(doc), run.cautions_section(doc), run.complex_section(doc),
                                    run.method_section(doc)]
     if ok:
-        parts += [res.splitting_section(doc), res.models_section(doc), res.checks_section(doc)]
+        parts += [res.splitting_section(doc), mult.multiplet_section(doc, figures.get(mult.TERM_DIAGRAM)),
+                  res.models_section(doc), res.checks_section(doc)]
     parts += [res.measured_section(doc, with_computed=ok)]
     parts += [res.level_diagram_section(figures.get(LEVEL_DIAGRAM), problems or [])]
     if ok:
@@ -91,7 +93,8 @@ def orbital_pictures(doc: dict[str, Any], folder: Path) -> dict[str, bytes]:
 
 
 def write_reports(doc: dict[str, Any], folder: Path) -> list[Path]:
-    """Write report.md, report.html, level_diagram.png/.svg and (with spin states) spin_states.png.
+    """Write report.md, report.html, level_diagram.png/.svg, term_diagram.png/.svg (when B is known)
+    and (with spin states) spin_states.png.
 
     The d-orbital pictures listed in ``doc["handoff"]`` are read from ``folder`` and embedded
     (and drawn beside the manifold levels).  Returns the paths written, in writing order.
@@ -105,7 +108,9 @@ def write_reports(doc: dict[str, Any], folder: Path) -> list[Path]:
               for p in (doc.get("handoff") or {}).get("pictures") or [] if p.get("file") in pictures}
     diagram = functools.partial(level_diagram, thumbnails=thumbs) if thumbs else level_diagram
     drawn = {LEVEL_DIAGRAM: _draw("level diagram", diagram, doc, ("png", "svg"), problems),
-             SPIN_STATES: _draw("spin-state", spin_state_figure, doc, ("png",), problems)}
+             SPIN_STATES: _draw("spin-state", spin_state_figure, doc, ("png",), problems),
+             mult.TERM_DIAGRAM: _draw("term diagram", mult.term_diagram_figure, doc, ("png", "svg"), problems)
+             if run.is_result(doc) else {}}
     written: list[Path] = []
     for name, formats in drawn.items():
         for fmt, data in formats.items():
